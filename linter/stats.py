@@ -1,0 +1,851 @@
+"""Testing a diagram's implied conditional independencies against data.
+
+A causal diagram implies that some pairs of measured variables are independent
+given a set of others (the global Markov property: Lauritzen 1996, *Graphical
+Models*, section 3.2; Pearl 2009, *Causality*, ch. 1). This module checks such
+statements against a CSV table:
+
+* numeric pairs: partial correlation and Fisher's z test (Fisher 1915,
+  "Frequency distribution of the values of the correlation coefficient in
+  samples from an indefinitely large population", Biometrika 10:507-521;
+  Fisher 1924 for the partial case, which loses one degree of freedom per
+  conditioning variable);
+* ``method="spearman"``: the same on ranks, with the rank-correlation variance
+  factor 1.06 of Fieller, Hartley & Pearson (1957, "Tests for rank correlation
+  coefficients. I", Biometrika 44:470-481);
+* pairs with a categorical member: the likelihood-ratio G-test of conditional
+  independence, summed over the strata of the conditioning set (Wilks 1938,
+  "The large-sample distribution of the likelihood ratio for testing composite
+  hypotheses", Ann Math Statist 9:60-62; the stratified sum is common practice);
+* Holm's step-down adjustment across all tests of one run (Holm 1979, "A simple
+  sequentially rejective multiple test procedure", Scand J Statist 6:65-70).
+
+numpy, scipy and pandas are imported lazily (:func:`_require`) so that
+importing this module costs nothing and ``dagward check`` without ``--data``
+never loads them. When they are missing, public functions raise
+:class:`StatsUnavailable`.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+import os
+import tempfile
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:  # only for type checkers; the real imports are lazy
+    import networkx as nx
+    import numpy as np
+    import pandas as pd
+
+__all__ = [
+    "CATEGORICAL_MAX_LEVELS_AS_IS",
+    "DataError",
+    "Independence",
+    "StatsError",
+    "StatsUnavailable",
+    "Table",
+    "TestResult",
+    "fisher_z_test",
+    "g_test_conditional",
+    "holm",
+    "load_table",
+    "partial_correlation",
+    "simulate_linear_gaussian",
+    "test_independencies",
+    "write_atomic",
+]
+
+# A numeric column with at most this many distinct values enters a G-test with
+# one level per value; a numeric column with more is cut at its quintiles.
+CATEGORICAL_MAX_LEVELS_AS_IS = 5
+
+# Fieller, Hartley & Pearson (1957): var(atanh(r_s)) ~ 1.06 / (n - 3) for
+# Spearman's coefficient under bivariate normality.
+SPEARMAN_VARIANCE_FACTOR = 1.06
+
+_Z_975 = 1.959963984540054  # standard normal 97.5% quantile
+
+METHODS = ("pearson", "spearman")
+
+
+class StatsError(Exception):
+    """Base class of the errors raised by this module."""
+
+
+class StatsUnavailable(StatsError):
+    """numpy, scipy or pandas is not installed."""
+
+
+class DataError(StatsError):
+    """A data file cannot be used (missing, unreadable, empty, malformed)."""
+
+
+_np: Any = None
+_pd: Any = None
+_sps: Any = None
+
+
+def _require() -> None:
+    """Import numpy, scipy.stats and pandas once, or raise StatsUnavailable."""
+    global _np, _pd, _sps
+    if _np is not None and _pd is not None and _sps is not None:
+        return
+    try:
+        import numpy
+        import pandas
+        from scipy import stats as scipy_stats
+    except ImportError as exc:  # the message names the missing package
+        raise StatsUnavailable(
+            f"testing against data needs numpy, scipy and pandas ({exc}); "
+            'install them with: pip install "dagward[data]"'
+        ) from exc
+    _np, _pd, _sps = numpy, pandas, scipy_stats
+
+
+# --------------------------------------------------------------------------
+# data types
+
+
+@dataclass(frozen=True)
+class Independence:
+    """What the diagram implies: ``a`` is independent of ``b`` given ``given``."""
+
+    a: str
+    b: str
+    given: tuple[str, ...] = ()
+
+    def columns(self) -> tuple[str, ...]:
+        return (self.a, self.b, *self.given)
+
+    def label(self) -> str:
+        """``a ⫫ b | c, d`` (Dawid's conditional-independence sign)."""
+        text = f"{self.a} \u2aeb {self.b}"
+        if self.given:
+            text += " | " + ", ".join(self.given)
+        return text
+
+    def __str__(self) -> str:
+        return self.label()
+
+
+@dataclass(frozen=True)
+class TestResult:
+    """The outcome of testing one implied independence.
+
+    ``effect`` is the partial correlation for ``pearson``, the rank partial
+    correlation for ``spearman``, and for the ``g-test`` a bias-corrected
+    Cramér's V computed from the G statistic,
+    ``sqrt(max(G - df, 0) / (n * (min(R, C) - 1)))`` with R and C the numbers
+    of observed levels of ``a`` and ``b`` (Cramér 1946, *Mathematical Methods
+    of Statistics*, section 21.9; subtracting the null expectation ``df`` of G
+    is common practice). It lies in [0, 1]; the G-test gives no interval.
+
+    ``rejected`` is ``p_adjusted < alpha and |effect| >= min_effect``.
+    When a test could not run, ``p``, ``p_adjusted`` and ``statistic`` are NaN,
+    ``rejected`` is False and ``note`` says why; :meth:`to_dict` turns NaN into
+    None for JSON.
+    """
+
+    __test__ = False  # not a pytest test class despite the name
+
+    independence: Independence
+    method: str
+    statistic: float
+    df: int | None
+    n: int
+    p: float
+    p_adjusted: float
+    effect: float | None
+    ci_low: float | None
+    ci_high: float | None
+    rejected: bool
+    note: str | None = None
+
+    @property
+    def tested(self) -> bool:
+        return not math.isnan(self.p)
+
+    def to_dict(self) -> dict[str, Any]:
+        def clean(value: float | None) -> float | None:
+            if value is None or math.isnan(value):
+                return None
+            return float(value)
+
+        ind = self.independence
+        return {
+            "a": ind.a,
+            "b": ind.b,
+            "given": list(ind.given),
+            "method": self.method,
+            "statistic": clean(self.statistic),
+            "df": self.df,
+            "n": self.n,
+            "p": clean(self.p),
+            "p_adjusted": clean(self.p_adjusted),
+            "effect": clean(self.effect),
+            "ci_low": clean(self.ci_low),
+            "ci_high": clean(self.ci_high),
+            "rejected": self.rejected,
+            "note": self.note,
+        }
+
+
+# --------------------------------------------------------------------------
+# the table
+
+
+class Table:
+    """A data table read from CSV, column by column.
+
+    Missing values: empty cells and pandas' default markers (``NA``, ``NaN``,
+    ``null``, ``N/A``, ``-nan``, ...); in numeric columns also ``inf``.
+
+    Categorical rule: a column is *categorical* when some non-missing value is
+    not a number (text such as ``yes``/``no`` or ``A``/``B``) or when its values
+    are ``True``/``False``; every column whose non-missing values are all
+    numbers is *numeric*, including 0/1 and small integer codes. Pass
+    ``categorical=[...]`` to :func:`load_table` to treat numeric codes as
+    categories. A column that is entirely missing counts as numeric (and every
+    test that needs it reports a note).
+    """
+
+    def __init__(self, frame: pd.DataFrame, *, source: str = "<memory>",
+                 categorical: Iterable[str] = ()) -> None:
+        _require()
+        self.source = source
+        self._frame = frame
+        forced = set(categorical)
+        unknown = forced - set(frame.columns)
+        if unknown:
+            raise DataError(f"{source}: no column named {', '.join(sorted(unknown))}")
+        self._categorical = {
+            name
+            for name in frame.columns
+            if name in forced or not _is_numeric_dtype(frame[name])
+        }
+        self._numeric_cache: dict[str, np.ndarray] = {}
+        self._codes_cache: dict[str, tuple[np.ndarray, list[Any]]] = {}
+
+    @classmethod
+    def from_columns(cls, columns: Mapping[str, Sequence[Any]], *, source: str = "<memory>",
+                     categorical: Iterable[str] = ()) -> Table:
+        """Build a table from ``{name: values}`` (for tests and simulations)."""
+        _require()
+        return cls(_pd.DataFrame(dict(columns)), source=source, categorical=categorical)
+
+    def columns(self) -> tuple[str, ...]:
+        return tuple(str(c) for c in self._frame.columns)
+
+    def has_column(self, name: str) -> bool:
+        return name in self._frame.columns
+
+    def is_categorical(self, name: str) -> bool:
+        if not self.has_column(name):
+            raise KeyError(name)
+        return name in self._categorical
+
+    @property
+    def n_rows(self) -> int:
+        return int(len(self._frame))
+
+    def numeric(self, name: str) -> np.ndarray:
+        """Float values with NaN for missing (and non-finite) cells."""
+        cached = self._numeric_cache.get(name)
+        if cached is None:
+            values = _np.asarray(self._frame[name].to_numpy(dtype="float64", na_value=_np.nan),
+                                 dtype=float)
+            if not _np.isfinite(values).all():
+                values = values.copy()
+                values[~_np.isfinite(values)] = _np.nan
+            cached = values
+            self._numeric_cache[name] = cached
+        return cached
+
+    def missing(self, name: str) -> np.ndarray:
+        """Boolean mask of missing cells."""
+        if self.is_categorical(name):
+            return self.codes(name)[0] < 0
+        return _np.isnan(self.numeric(name))
+
+    def codes(self, name: str) -> tuple[np.ndarray, list[Any]]:
+        """Integer level codes (-1 for missing) and the level values, sorted."""
+        cached = self._codes_cache.get(name)
+        if cached is None:
+            cat = _pd.Categorical(self._frame[name])
+            cached = (_np.asarray(cat.codes, dtype=_np.int64), list(cat.categories))
+            self._codes_cache[name] = cached
+        return cached
+
+
+def _is_numeric_dtype(series: pd.Series) -> bool:
+    api = _pd.api.types
+    if api.is_bool_dtype(series.dtype):
+        return False
+    if api.is_numeric_dtype(series.dtype):
+        return True
+    # An all-missing column is read as float by pandas; anything else that is
+    # not numeric holds at least one non-number.
+    return bool(series.isna().all())
+
+
+def load_table(path: str | Path, *, categorical: Iterable[str] = ()) -> Table:
+    """Read a CSV file (header row, comma-separated, UTF-8 with optional BOM).
+
+    Column names are stripped of surrounding blanks. Raises :class:`DataError`
+    naming the file when it is missing, unreadable, empty, has no data rows or
+    repeats a column name.
+    """
+    _require()
+    path = Path(path)
+    name = str(path)
+    if not path.exists():
+        raise DataError(f"{name}: no such file")
+    if path.is_dir():
+        raise DataError(f"{name}: is a directory, not a CSV file")
+    try:
+        with open(path, encoding="utf-8-sig", newline="") as handle:
+            header = next(csv.reader(handle), None)
+    except UnicodeDecodeError as exc:
+        raise DataError(f"{name}: not UTF-8 text ({exc.reason} at byte {exc.start})") from exc
+    except (OSError, csv.Error) as exc:
+        raise DataError(f"{name}: cannot read ({exc})") from exc
+    if not header or all(not cell.strip() for cell in header):
+        raise DataError(f"{name}: empty file (expected a header row naming the columns)")
+    stripped = [cell.strip() for cell in header]
+    seen: set[str] = set()
+    for cell in stripped:
+        if not cell:
+            raise DataError(f"{name}: the header has an empty column name")
+        if cell in seen:
+            raise DataError(f"{name}: column `{cell}` appears twice in the header")
+        seen.add(cell)
+    try:
+        frame = _pd.read_csv(path, encoding="utf-8-sig", low_memory=False)
+    except _pd.errors.EmptyDataError as exc:
+        raise DataError(f"{name}: empty file") from exc
+    except (_pd.errors.ParserError, ValueError, UnicodeDecodeError, OSError) as exc:
+        first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        raise DataError(f"{name}: malformed CSV ({first})") from exc
+    frame.columns = stripped
+    if len(frame) == 0:
+        raise DataError(f"{name}: no data rows (only a header)")
+    return Table(frame, source=name, categorical=categorical)
+
+
+# --------------------------------------------------------------------------
+# the statistics
+
+
+def _partial_from_cov(cov: np.ndarray) -> tuple[float, int, str | None]:
+    """Partial correlation of variables 0 and 1 given 2..m from a covariance.
+
+    Works through the Schur complement with a pseudo-inverse of the
+    conditioning block, so collinear conditioning columns are harmless; the
+    returned k is that block's rank (the degrees of freedom it uses up).
+    """
+    cov = _np.asarray(cov, dtype=float)
+    sd = _np.sqrt(_np.clip(_np.diag(cov), 0.0, None))
+    if sd[0] == 0.0 or sd[1] == 0.0:
+        return math.nan, 0, "constant column"
+    # Scale every variable to unit variance first: the pseudo-inverse
+    # tolerance is relative, and columns may be in very different units.
+    nonzero = _np.where(sd > 0, sd, 1.0)
+    corr = cov / _np.outer(nonzero, nonzero)
+    k = 0
+    resid = corr[:2, :2]
+    if cov.shape[0] > 2:
+        keep = [i for i in range(2, cov.shape[0]) if sd[i] > 0]
+        if keep:
+            szz = corr[_np.ix_(keep, keep)]
+            sxz = corr[_np.ix_([0, 1], keep)]
+            pinv = _np.linalg.pinv(szz, rcond=1e-10, hermitian=True)
+            k = int(_np.linalg.matrix_rank(szz, tol=1e-10 * max(1.0, float(_np.abs(szz).max())),
+                                           hermitian=True))
+            resid = resid - sxz @ pinv @ sxz.T
+    v0, v1 = float(resid[0, 0]), float(resid[1, 1])
+    if v0 <= 1e-12 or v1 <= 1e-12:
+        return math.nan, k, "a variable is a linear function of the conditioning set"
+    r = float(resid[0, 1]) / math.sqrt(v0 * v1)
+    return max(-1.0, min(1.0, r)), k, None
+
+
+def partial_correlation(x: Any, y: Any, Z: Any = None) -> float:
+    """Partial correlation of ``x`` and ``y`` given the columns of ``Z``.
+
+    ``Z`` has shape (n, k) with k >= 0 (or is None). Equals the correlation of
+    the least-squares residuals of x and y on Z with an intercept (common
+    practice; e.g. Anderson 2003, *An Introduction to Multivariate Statistical
+    Analysis*, section 2.5). NaN when x or y is constant or determined by Z.
+    """
+    _require()
+    x = _np.asarray(x, dtype=float).ravel()
+    y = _np.asarray(y, dtype=float).ravel()
+    n = x.shape[0]
+    if y.shape[0] != n:
+        raise ValueError("x and y differ in length")
+    if Z is None:
+        Z = _np.empty((n, 0))
+    Z = _np.asarray(Z, dtype=float)
+    if Z.ndim == 1:
+        Z = Z.reshape(n, 1)
+    if Z.shape[0] != n:
+        raise ValueError("Z has a different number of rows from x")
+    data = _np.column_stack([x, y, Z])
+    r, _k, _note = _partial_from_cov(_covariance(data))
+    return r
+
+
+def _covariance(data: np.ndarray) -> np.ndarray:
+    """Column covariance (two-pass: centre first, for accuracy on large n)."""
+    centred = data - data.mean(axis=0)
+    return (centred.T @ centred) / max(data.shape[0] - 1, 1)
+
+
+def fisher_z_test(r: float, n: int, k: int, *, variance_factor: float = 1.0) -> tuple[float, float]:
+    """Fisher's z test of a (partial) correlation: ``(z, two-sided p)``.
+
+    ``z = atanh(r) * sqrt((n - k - 3) / variance_factor)`` is standard normal
+    under zero (partial) correlation for Gaussian data (Fisher 1915; 1924).
+    ``variance_factor`` is 1.06 for Spearman's coefficient (Fieller, Hartley &
+    Pearson 1957). Raises ValueError when ``n - k - 3 < 1``.
+    """
+    _require()
+    dof = n - k - 3
+    if dof < 1:
+        raise ValueError(f"too few cases for Fisher's z: n = {n} with {k} conditioning variables")
+    r = max(-1.0 + 1e-15, min(1.0 - 1e-15, float(r)))
+    z = math.atanh(r) * math.sqrt(dof / variance_factor)
+    p = float(2.0 * _sps.norm.sf(abs(z)))
+    return z, p
+
+
+def _fisher_interval(r: float, n: int, k: int, variance_factor: float) -> tuple[float, float]:
+    r = max(-1.0 + 1e-15, min(1.0 - 1e-15, r))
+    half = _Z_975 * math.sqrt(variance_factor / (n - k - 3))
+    centre = math.atanh(r)
+    return math.tanh(centre - half), math.tanh(centre + half)
+
+
+def g_test_conditional(x: Any, y: Any, strata: Any = None) -> tuple[float, int, float]:
+    """G-test that ``x`` and ``y`` (labels) are independent within each stratum.
+
+    Returns ``(G, df, p)``: G is the sum over strata of the likelihood-ratio
+    statistic ``2 * sum O * ln(O / E)``, df the sum of ``(r - 1)(c - 1)`` with
+    r, c the levels of x and y observed in that stratum, p from the chi-squared
+    distribution with df degrees (Wilks 1938). Strata with fewer than 2 rows are
+    skipped. ``strata`` is a 1-D array of stratum labels or None (one stratum).
+    When df is 0 (no stratum shows two levels of both), p is NaN.
+    """
+    _require()
+    x = _np.asarray(x)
+    y = _np.asarray(y)
+    n = x.shape[0]
+    if y.shape[0] != n:
+        raise ValueError("x and y differ in length")
+    _, xc = _np.unique(x, return_inverse=True)
+    _, yc = _np.unique(y, return_inverse=True)
+    if strata is None:
+        sc = _np.zeros(n, dtype=_np.int64)
+    else:
+        strata = _np.asarray(strata)
+        if strata.shape[0] != n:
+            raise ValueError("strata differ in length from x")
+        _, sc = _np.unique(strata, return_inverse=True, axis=0 if strata.ndim > 1 else None)
+    return _g_from_codes(xc.ravel().astype(_np.int64), yc.ravel().astype(_np.int64),
+                         sc.ravel().astype(_np.int64))
+
+
+def _g_from_codes(xc: np.ndarray, yc: np.ndarray, sc: np.ndarray) -> tuple[float, int, float]:
+    if xc.size == 0:
+        return 0.0, 0, math.nan
+    nx_, ny_, ns = int(xc.max()) + 1, int(yc.max()) + 1, int(sc.max()) + 1
+    # One bincount builds every stratum's contingency table at once.
+    counts = _np.bincount((sc * nx_ + xc) * ny_ + yc, minlength=ns * nx_ * ny_)
+    tables = counts.reshape(ns, nx_, ny_).astype(float)
+    totals = tables.sum(axis=(1, 2))
+    tables = tables[totals >= 2]
+    totals = totals[totals >= 2]
+    if tables.shape[0] == 0:
+        return 0.0, 0, math.nan
+    rows = tables.sum(axis=2)
+    cols = tables.sum(axis=1)
+    expected = rows[:, :, None] * cols[:, None, :] / totals[:, None, None]
+    observed = tables > 0
+    g = 2.0 * float(_np.sum(tables[observed] * _np.log(tables[observed] / expected[observed])))
+    r_levels = (rows > 0).sum(axis=1)
+    c_levels = (cols > 0).sum(axis=1)
+    df = int(_np.sum((r_levels - 1) * (c_levels - 1)))
+    g = max(g, 0.0)  # rounding can leave -1e-13 for a perfectly independent table
+    if df == 0:
+        return g, 0, math.nan
+    return g, df, float(_sps.chi2.sf(g, df))
+
+
+def holm(pvalues: Sequence[float]) -> list[float]:
+    """Holm's step-down adjusted p-values, in the input order.
+
+    With p-values sorted p(1) <= ... <= p(m), the adjusted value of p(i) is
+    ``max over j <= i of min(1, (m - j + 1) * p(j))`` (Holm 1979). Rejecting
+    where the adjusted value is below alpha controls the family-wise error
+    rate at alpha. NaN entries (tests that could not run) stay NaN and do not
+    count towards m.
+    """
+    values = [float(p) for p in pvalues]
+    for p in values:
+        if not math.isnan(p) and not 0.0 <= p <= 1.0:
+            raise ValueError(f"p-value out of [0, 1]: {p}")
+    present = sorted((p, i) for i, p in enumerate(values) if not math.isnan(p))
+    m = len(present)
+    adjusted = [math.nan] * len(values)
+    running = 0.0
+    for rank, (p, index) in enumerate(present):
+        running = max(running, min(1.0, (m - rank) * p))
+        adjusted[index] = running
+    return adjusted
+
+
+# --------------------------------------------------------------------------
+# running the tests of one diagram
+
+
+@dataclass(frozen=True)
+class _Raw:
+    method: str
+    statistic: float
+    df: int | None
+    n: int
+    p: float
+    effect: float | None
+    ci_low: float | None
+    ci_high: float | None
+    note: str | None
+
+
+def _untested(method: str, n: int, note: str) -> _Raw:
+    return _Raw(method, math.nan, None, n, math.nan, None, None, None, note)
+
+
+class _MomentBlock:
+    """Covariances of a group of numeric columns over one set of rows.
+
+    Tests whose columns share the same missing-value pattern share one block,
+    so a run over a complete table computes one covariance matrix in all.
+    """
+
+    def __init__(self, table: Table, columns: Sequence[str], rows: np.ndarray | None,
+                 spearman: bool) -> None:
+        self.index = {name: i for i, name in enumerate(columns)}
+        data = _np.empty((table.n_rows if rows is None else int(rows.sum()), len(columns)))
+        for j, name in enumerate(columns):
+            values = table.numeric(name)
+            if rows is not None:
+                values = values[rows]
+            data[:, j] = _sps.rankdata(values) if spearman else values
+        self.n = data.shape[0]
+        self.constant = {name: bool(self.n == 0 or _np.ptp(data[:, j]) == 0)
+                         for name, j in self.index.items()}
+        self.cov = _covariance(data) if self.n > 1 else _np.zeros((len(columns),) * 2)
+
+
+def _numeric_test(cov: np.ndarray, n: int, names: Sequence[str], constant: Mapping[str, bool],
+                  method: str, k_override: int | None = None) -> _Raw:
+    """Fisher z test on the partial correlation of names[0], names[1] | rest."""
+    a, b = names[0], names[1]
+    for name in (a, b):
+        if constant[name]:
+            return _untested(method, n, f"constant column `{name}`")
+    notes = []
+    dropped = [z for z in names[2:] if constant[z]]
+    if dropped:
+        notes.append("constant conditioning column " + ", ".join(f"`{z}`" for z in dropped)
+                     + " left out")
+    r, k, note = _partial_from_cov(cov)
+    if k_override is not None:
+        k = k_override
+    if note is not None:
+        return _untested(method, n, note)
+    factor = SPEARMAN_VARIANCE_FACTOR if method == "spearman" else 1.0
+    if n - k - 3 < 1:
+        return _untested(method, n, f"too few complete cases (n = {n} with {k} conditioning"
+                                    " variables; need n > k + 3)")
+    z, p = fisher_z_test(r, n, k, variance_factor=factor)
+    low, high = _fisher_interval(r, n, k, factor)
+    return _Raw(method, z, None, n, p, r, low, high, "; ".join(notes) or None)
+
+
+def _levels_for_g(table: Table, name: str, rows: np.ndarray) -> np.ndarray:
+    """Level codes of a column over ``rows`` for the G-test.
+
+    Categorical columns keep their categories. Numeric columns with at most
+    CATEGORICAL_MAX_LEVELS_AS_IS distinct values keep one level per value;
+    other numeric columns are cut at their quintiles (ties may merge bins).
+    """
+    if table.is_categorical(name):
+        codes = table.codes(name)[0][rows]
+        _, inverse = _np.unique(codes, return_inverse=True)
+        return inverse.ravel()
+    values = table.numeric(name)[rows]
+    distinct, inverse = _np.unique(values, return_inverse=True)
+    if distinct.size <= CATEGORICAL_MAX_LEVELS_AS_IS:
+        return inverse.ravel()
+    edges = _np.unique(_np.quantile(values, [0.2, 0.4, 0.6, 0.8]))
+    return _np.searchsorted(edges, values, side="left").astype(_np.int64)
+
+
+def _g_test(table: Table, ind: Independence, rows: np.ndarray) -> _Raw:
+    n = int(rows.sum())
+    if n < 2:
+        return _untested("g-test", n, f"too few complete cases (n = {n})")
+    xc = _levels_for_g(table, ind.a, rows)
+    yc = _levels_for_g(table, ind.b, rows)
+    for name, codes in ((ind.a, xc), (ind.b, yc)):
+        if codes.max() == 0:
+            return _untested("g-test", n, f"constant column `{name}`")
+    if ind.given:
+        parts = _np.column_stack([_levels_for_g(table, z, rows) for z in ind.given])
+        _, sc = _np.unique(parts, axis=0, return_inverse=True)
+        sc = sc.ravel().astype(_np.int64)
+    else:
+        sc = _np.zeros(n, dtype=_np.int64)
+    g, df, p = _g_from_codes(xc, yc, sc)
+    if df == 0:
+        return _untested("g-test", n, "no stratum of the conditioning set shows two levels"
+                                      " of both variables")
+    m = min(int(xc.max()), int(yc.max()))  # min(R, C) - 1 over the whole table
+    effect = math.sqrt(max(g - df, 0.0) / (n * m))
+    return _Raw("g-test", g, df, n, p, effect, None, None, None)
+
+
+def _design_test(table: Table, ind: Independence, rows: np.ndarray, method: str) -> _Raw:
+    """Numeric pair with some categorical conditioning columns: the categories
+    enter as indicator columns (one per observed level but the first)."""
+    n = int(rows.sum())
+    spearman = method == "spearman"
+    columns: list[np.ndarray] = []
+    names: list[str] = []
+    constant: dict[str, bool] = {}
+    for name in ind.columns():
+        if table.is_categorical(name):
+            codes = table.codes(name)[0][rows]
+            levels = _np.unique(codes)
+            constant[name] = levels.size < 2
+            for level in levels[1:]:
+                columns.append((codes == level).astype(float))
+                names.append(name)
+        else:
+            values = table.numeric(name)[rows]
+            constant[name] = bool(n == 0 or _np.ptp(values) == 0)
+            columns.append(_sps.rankdata(values) if spearman else values)
+            names.append(name)
+    if n < 2:
+        return _untested(method, n, f"too few complete cases (n = {n})")
+    data = _np.column_stack(columns)
+    return _numeric_test(_covariance(data), n, names, constant, method)
+
+
+def test_independencies(
+    table: Table,
+    independencies: Sequence[Independence],
+    *,
+    method: str = "pearson",
+    alpha: float = 0.05,
+    min_effect: float = 0.1,
+    progress: Callable[[int, int], None] | None = None,
+) -> list[TestResult]:
+    """Test each implied independence against ``table``; results in input order.
+
+    Each test uses its complete cases (rows where ``a``, ``b`` and every
+    conditioning column are present). Numeric pairs use the partial
+    correlation and Fisher's z (``method`` "pearson") or the same on ranks
+    ("spearman"); a pair with a categorical member uses the stratified G-test
+    (see :func:`g_test_conditional`; numeric columns there follow
+    :func:`_levels_for_g`). Holm's adjustment runs over all tests that could be
+    computed. ``progress(done, total)`` is called after each test.
+    """
+    _require()
+    if method not in METHODS:
+        raise ValueError(f"unknown method {method!r}; choose one of {', '.join(METHODS)}")
+    if not 0.0 < alpha < 1.0:
+        raise ValueError(f"alpha must lie strictly between 0 and 1, not {alpha}")
+    if min_effect < 0.0:
+        raise ValueError(f"min_effect must not be negative, not {min_effect}")
+    items = list(independencies)
+    total = len(items)
+    raws: list[_Raw | None] = [None] * total
+    done = 0
+
+    def report() -> None:
+        nonlocal done
+        done += 1
+        if progress is not None:
+            progress(done, total)
+
+    has_missing: dict[str, bool] = {}
+    all_missing: dict[str, bool] = {}
+    for ind in items:
+        for name in ind.columns():
+            if table.has_column(name) and name not in has_missing:
+                mask = table.missing(name)
+                has_missing[name] = bool(mask.any())
+                all_missing[name] = bool(mask.all())
+
+    # Sort the tests: untestable ones, the fast numeric path grouped by the
+    # missing-value pattern, and the rest (G-test, categorical conditioning).
+    groups: dict[frozenset[str], list[int]] = {}
+    for i, ind in enumerate(items):
+        absent = [name for name in dict.fromkeys(ind.columns()) if not table.has_column(name)]
+        if absent:
+            raws[i] = _untested(method, 0, "not in the data: "
+                                + ", ".join(f"`{name}`" for name in absent))
+            report()
+            continue
+        if len(set(ind.columns())) != len(ind.columns()):
+            raws[i] = _untested(method, 0, "a variable appears twice in the statement")
+            report()
+            continue
+        empty = [name for name in dict.fromkeys(ind.columns()) if all_missing[name]]
+        if empty:
+            raws[i] = _untested(method, 0, "no values in column "
+                                + ", ".join(f"`{name}`" for name in empty))
+            report()
+            continue
+        if any(table.is_categorical(name) for name in ind.columns()):
+            rows = _np.ones(table.n_rows, dtype=bool)
+            for name in ind.columns():
+                if has_missing[name]:
+                    rows &= ~table.missing(name)
+            if table.is_categorical(ind.a) or table.is_categorical(ind.b):
+                raws[i] = _g_test(table, ind, rows)
+            else:
+                raws[i] = _design_test(table, ind, rows, method)
+            report()
+            continue
+        key = frozenset(name for name in ind.columns() if has_missing[name])
+        groups.setdefault(key, []).append(i)
+
+    for key, members in groups.items():
+        names = list(dict.fromkeys(name for i in members for name in items[i].columns()))
+        rows = None
+        if key:
+            rows = _np.ones(table.n_rows, dtype=bool)
+            for name in key:
+                rows &= ~table.missing(name)
+        block = _MomentBlock(table, names, rows, method == "spearman")
+        for i in members:
+            ind = items[i]
+            if block.n < 2:
+                raws[i] = _untested(method, block.n, f"too few complete cases (n = {block.n})")
+            else:
+                index = [block.index[name] for name in ind.columns()]
+                sub = block.cov[_np.ix_(index, index)]
+                raws[i] = _numeric_test(sub, block.n, ind.columns(), block.constant, method)
+            report()
+
+    final = [raw for raw in raws if raw is not None]
+    assert len(final) == total
+    adjusted = holm([raw.p for raw in final])
+    results = []
+    for ind, raw, p_adj in zip(items, final, adjusted, strict=True):
+        rejected = (
+            not math.isnan(p_adj)
+            and p_adj < alpha
+            and raw.effect is not None
+            and abs(raw.effect) >= min_effect
+        )
+        results.append(TestResult(
+            independence=ind, method=raw.method, statistic=raw.statistic, df=raw.df, n=raw.n,
+            p=raw.p, p_adjusted=p_adj, effect=raw.effect, ci_low=raw.ci_low,
+            ci_high=raw.ci_high, rejected=rejected, note=raw.note,
+        ))
+    return results
+
+
+# --------------------------------------------------------------------------
+# simulation (demo data, tests and the benchmark)
+
+
+def simulate_linear_gaussian(
+    G: nx.DiGraph,
+    n: int,
+    seed: int,
+    *,
+    coefficients: Mapping[tuple[str, str], float] | None = None,
+    coef_range: tuple[float, float] = (0.3, 0.8),
+    noise_sd: float = 1.0,
+    standardize: bool = True,
+) -> dict[str, np.ndarray]:
+    """Draw n rows from a linear-Gaussian structural equation model on DAG G.
+
+    Each variable is the weighted sum of its parents plus independent normal
+    noise; such data are Markov to G (common practice; Spirtes, Glymour &
+    Scheines 2000, *Causation, Prediction, and Search*, ch. 3). Arrow weights
+    come from ``coefficients`` where given, otherwise uniform on ``coef_range``
+    in absolute value with a random sign. With ``standardize`` every variable
+    is scaled to unit variance before its children use it, which keeps
+    correlations moderate in deep diagrams (scaling leaves the independencies
+    unchanged). Variables are visited in topological order (iterative).
+    """
+    _require()
+    import networkx as nx_
+
+    rng = _np.random.default_rng(seed)
+    coefficients = dict(coefficients or {})
+    low, high = coef_range
+    values: dict[str, np.ndarray] = {}
+    for node in nx_.topological_sort(G):
+        column = rng.normal(0.0, noise_sd, size=n)
+        for parent in sorted(G.predecessors(node), key=str):
+            weight = coefficients.get((parent, node))
+            if weight is None:
+                weight = float(rng.uniform(low, high) * rng.choice([-1.0, 1.0]))
+            column += weight * values[parent]
+        if standardize:
+            column = (column - column.mean()) / column.std()
+        values[node] = column
+    return values
+
+
+# --------------------------------------------------------------------------
+# files
+
+
+def write_atomic(path: str | Path, text: str) -> None:
+    """Write ``text`` (UTF-8) to ``path`` via a temporary file in the same
+    directory and ``os.replace``, so readers never see a half-written file.
+    A new file gets the usual permissions (0666 less the umask); an existing
+    file keeps its mode."""
+    path = Path(path)
+    directory = path.parent if str(path.parent) else Path(".")
+    try:
+        mode = path.stat().st_mode & 0o7777
+    except FileNotFoundError:
+        umask = os.umask(0)
+        os.umask(umask)
+        mode = 0o666 & ~umask
+    fd, temp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=directory)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
+            handle.write(text)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.chmod(temp, mode)
+        os.replace(temp, path)
+    except BaseException:
+        try:
+            os.unlink(temp)
+        except FileNotFoundError:
+            pass
+        raise
+
+
+def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
+                    min_effect: float | None = None) -> str:
+    """An SVG forest plot of the results; see :mod:`linter.forest`."""
+    from linter.forest import forest_plot_svg as draw
+
+    return draw(results, title, min_effect=min_effect)
