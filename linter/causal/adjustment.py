@@ -1,0 +1,328 @@
+"""Covariate adjustment: causal nodes, forbidden set, validity, biasing paths.
+
+Definitions follow the generalised adjustment criterion (Shpitser,
+VanderWeele & Robins 2010, "On the validity of covariate adjustment for
+estimating causal effects", UAI; Perkovic, Textor, Kalisch & Maathuis 2018,
+"Complete graphical characterization and construction of adjustment sets in
+Markov equivalence classes of ancestral graphs", JMLR 18(220)):
+
+* a path from X to Y is *proper* when only its first node is in X (other
+  nodes of Y may occur inside it);
+* cn(X, Y): nodes outside X on a proper causal path from X to Y;
+* forb(X, Y): the descendants of cn(X, Y) (cn included);
+* Z is valid iff Z has no forbidden node and blocks every proper
+  non-causal path from X to Y.  When Z has no forbidden node the second
+  condition is the same as X and Y being d-separated by Z in the proper
+  back-door graph, i.e. G without the first arrow of every proper causal
+  path (van der Zander, Liskiewicz & Textor 2019, "Separators and adjustment
+  sets in causal graphs: complete criteria and an algorithmic framework",
+  Artificial Intelligence 270:1-40).
+
+A set that overlaps X or Y is never valid.  X and Y must be disjoint
+(``ValueError`` otherwise).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+
+import networkx as nx
+
+from .dsep import (
+    DOWN,
+    UP,
+    _check_sets,
+    _state_search,
+    ancestors_cut,
+    d_separated_cut,
+    path_is_causal,
+    path_is_open,
+    shortcut_walk,
+)
+from .graph import _as_set, ancestors, descendants
+
+
+def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str], set[str]]:
+    X, Y = _as_set(G, X), _as_set(G, Y)
+    if X & Y:
+        raise ValueError(f"exposures and outcomes overlap: {sorted(X & Y)}")
+    return X, Y
+
+
+def proper_causal_nodes(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:
+    """cn(X, Y): variables outside X on a proper causal path from X to Y.
+
+    A node w is on such a path iff it is reachable from X along arrows
+    without passing through X again and it reaches Y along arrows without
+    passing through X; in a DAG the two directed pieces join into a simple
+    path.  Linear time.
+    """
+    X, Y = _roles(G, X, Y)
+    succ, pred = G._succ, G._pred
+    down: set[str] = set()
+    stack = [c for x in X for c in succ[x] if c not in X]
+    down.update(stack)
+    while stack:
+        v = stack.pop()
+        for c in succ[v]:
+            if c not in down and c not in X:
+                down.add(c)
+                stack.append(c)
+    up = set(Y)
+    stack = list(Y)
+    while stack:
+        v = stack.pop()
+        for p in pred[v]:
+            if p not in up and p not in X:
+                up.add(p)
+                stack.append(p)
+    return down & up
+
+
+def mediators(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:
+    """cn(X, Y) without the outcomes: variables strictly between X and Y on causal paths."""
+    return proper_causal_nodes(G, X, Y) - _as_set(G, Y)
+
+
+def forbidden(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:
+    """forb(X, Y): descendants of cn(X, Y), cn included (Perkovic et al. 2018)."""
+    cn = proper_causal_nodes(G, X, Y)
+    return descendants(G, cn) if cn else set()
+
+
+def proper_backdoor_skip(X: set[str], cn: set[str]):
+    """Edge predicate of the proper back-door graph: drop x -> w for x in X, w in cn.
+
+    The first arrow of a proper causal path is exactly such an arrow, and
+    every such arrow starts one; a predicate avoids copying G.
+    """
+    return lambda u, v: u in X and v in cn
+
+
+def proper_backdoor_graph(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> nx.DiGraph:
+    """A copy of G without the first arrow of every proper causal path (small graphs, display)."""
+    X, Y = _roles(G, X, Y)
+    cn = proper_causal_nodes(G, X, Y)
+    H = G.copy()
+    H.remove_edges_from([(x, w) for x in X for w in list(G._succ[x]) if w in cn])
+    return H
+
+
+def is_valid_adjustment(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str]) -> bool:
+    """The generalised adjustment criterion (not the back-door criterion).
+
+    Z is valid iff Z ∩ forb(X,Y) = ∅ and Z d-separates X and Y in the proper
+    back-door graph (van der Zander et al. 2019, Theorem on constructive
+    back-door; equivalent to Shpitser et al. 2010).  With no forbidden node
+    in Z, An(Z) is the same in G and in the proper back-door graph, because
+    every removed arrow ends in cn.  Linear time.
+    """
+    X, Y = _roles(G, X, Y)
+    Z = _as_set(G, Z)
+    if Z & (X | Y):
+        return False
+    cn = proper_causal_nodes(G, X, Y)
+    if cn and Z & descendants(G, cn):
+        return False
+    return d_separated_cut(G, X, Y, Z, proper_backdoor_skip(X, cn))
+
+
+def _is_proper_noncausal(G: nx.DiGraph, path: list[str], X: set[str], Y: set[str]) -> bool:
+    return (
+        len(path) >= 2
+        and path[0] in X
+        and path[-1] in Y
+        and not (set(path[1:]) & X)
+        and len(set(path)) == len(path)
+        and not path_is_causal(G, path)
+    )
+
+
+def _first_good(candidates, good):
+    for p in candidates:
+        if p is not None and good(p):
+            return p
+    return None
+
+
+def _shortcuts(walk: list[str]) -> list[list[str]]:
+    """Forward and backward shortcuts of a walk; both are open (see shortcut_walk)."""
+    fwd = shortcut_walk(walk)
+    bwd = list(reversed(shortcut_walk(list(reversed(walk)))))
+    return [fwd, bwd] if bwd != fwd else [fwd]
+
+
+def open_noncausal_path(
+    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str]
+) -> list[str] | None:
+    """A simple proper non-causal path from X to Y that is open given Z, or None.
+
+    Such a path (a) starts with an arrow into its exposure, (b) starts
+    x -> w with w outside cn(X, Y) (then it can never be causal), or (c)
+    starts x -> w with w in cn(X, Y) and later turns at a collider, which is
+    then forbidden and an ancestor of Z.  Types (a) and (b) are found by one
+    linear search whose shortcut keeps the first arrow, so it stays
+    non-causal.  Type (c) only exists when Z holds a forbidden variable; it is
+    searched with a "still directed" flag and the shortcut is re-checked.
+    """
+    X, Y = _roles(G, X, Y)
+    X, Y, Z = _check_sets(G, X, Y, Z)
+    cn = proper_causal_nodes(G, X, Y)
+    anc_z = ancestors(G, Z) if Z else set()
+    succ, pred = G._succ, G._pred
+    roots = []
+    for x in sorted(X):
+        roots += [(x, p, UP, 0) for p in pred[x] if p not in X]
+        roots += [(x, w, DOWN, 0) for w in succ[x] if w not in X and w not in cn]
+    walk = _state_search(G, roots, Z, anc_z, lambda v, d, f: v in Y, no_enter=X)
+    if walk:
+        return shortcut_walk(walk)
+    if not (anc_z & cn):
+        return None
+    return _typed_search(G, X, Y, Z, anc_z, cn, None)
+
+
+def _typed_search(G, X, Y, Z, anc_z, cn, collider_targets):
+    """Flagged search for type (c) paths and for collider-bias paths.
+
+    Flag bit 1: the walk is still a directed path from its exposure.
+    Flag bit 2: the walk has turned at a collider in ``collider_targets``.
+    """
+    succ, pred = G._succ, G._pred
+    roots = []
+    for x in sorted(X):
+        roots += [(x, p, UP, 0) for p in pred[x] if p not in X]
+        for w in succ[x]:
+            if w not in X:
+                roots.append((x, w, DOWN, 1 if w in cn else 0))
+
+    def update(v: str, d_in: int, d_out: int, f: int) -> int:
+        if d_out == UP:
+            f &= ~1
+            if d_in == DOWN and collider_targets is not None and v in collider_targets:
+                f |= 2
+        return f
+
+    need = 0 if collider_targets is None else 2
+
+    def accept(v: str, d: int, f: int) -> bool:
+        return v in Y and not (f & 1) and (f & 2) == need
+
+    def good(path: list[str]) -> bool:
+        if not (_is_proper_noncausal(G, path, X, Y) and path_is_open(G, path, Z, anc_z)):
+            return False
+        return collider_targets is None or _collider_in(G, path, collider_targets) is not None
+
+    walk = _state_search(G, roots, Z, anc_z, accept, no_enter=X, update=update)
+    if walk is None:
+        return None
+    return _first_good(_shortcuts(walk), good)
+
+
+def _collider_in(G: nx.DiGraph, path: list[str], targets: set[str]) -> str | None:
+    succ = G._succ
+    for i in range(1, len(path) - 1):
+        c = path[i]
+        if c in targets and c in succ[path[i - 1]] and c in succ[path[i + 1]]:
+            return c
+    return None
+
+
+def confounding_path(
+    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str]
+) -> list[str] | None:
+    """A proper non-causal path from X to Y with no collider and no node in Z, or None.
+
+    Without colliders a non-causal path must start with an arrow into its
+    exposure, climb to a fork (or to the outcome) and then descend, so a
+    search that may not turn from descending to climbing finds it.  The
+    climbing and descending parts cannot share a node (that would close a
+    directed cycle), so the walk is already simple.  Linear time.
+    """
+    X, Y = _roles(G, X, Y)
+    X, Y, Z = _check_sets(G, X, Y, Z)
+    pred = G._pred
+    roots = [(x, p, UP, 0) for x in sorted(X) for p in pred[x] if p not in X]
+    # anc_z = empty set: no collider may be passed.
+    walk = _state_search(G, roots, Z, set(), lambda v, d, f: v in Y, no_enter=X)
+    return shortcut_walk(walk) if walk else None
+
+
+def collider_bias_path(
+    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str], z: str
+) -> tuple[list[str], str] | None:
+    """A proper non-causal path open given Z with a collider c that is z or an ancestor of z.
+
+    Returns (path, c) or None.  Flagged Bayes-ball search (collider passed,
+    still directed), then the shortcut is re-checked definitionally.  Linear
+    time per call.
+    """
+    X, Y = _roles(G, X, Y)
+    X, Y, Z = _check_sets(G, X, Y, Z)
+    if z not in Z:
+        raise ValueError(f"{z!r} is not in the adjustment set")
+    cn = proper_causal_nodes(G, X, Y)
+    anc_z = ancestors(G, Z)
+    targets = ancestors(G, {z})
+    path = _typed_search(G, X, Y, Z, anc_z, cn, targets)
+    if path is None:
+        return None
+    return path, _collider_in(G, path, targets)  # type: ignore[return-value]
+
+
+def canonical_adjustment(
+    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], measured: Iterable[str]
+) -> set[str]:
+    """An(X ∪ Y) ∩ measured minus X, Y and forb(X, Y) (van der Zander et al. 2019)."""
+    X, Y = _roles(G, X, Y)
+    measured = set(measured)
+    return (ancestors(G, X | Y) & measured) - X - Y - forbidden(G, X, Y)
+
+
+def adjustment_exists(
+    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], measured: Iterable[str]
+) -> bool:
+    """A valid set among measured variables exists iff the canonical set is valid."""
+    return is_valid_adjustment(G, X, Y, canonical_adjustment(G, X, Y, measured))
+
+
+def instrument_like(
+    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str], z: str
+) -> bool:
+    """The test behind rule ``instrument-adjusted``.
+
+    z is not a descendant of X; z is d-separated from Y given Z minus z in G
+    with the exposures' outgoing arrows removed; and z is d-connected to X
+    given Z minus z.  Such a variable affects the outcome only through the
+    exposure (an instrument-like variable); adjusting for it can amplify
+    bias (Pearl 2010, "On a class of bias-amplifying variables that endanger
+    effect estimates", UAI; Myers et al. 2011, Am J Epidemiol 174:1213-1222).
+    """
+    X, Y = _roles(G, X, Y)
+    Z = _as_set(G, Z)
+    if z in X or z in Y or z in descendants(G, X):
+        return False
+    rest = Z - {z}
+    if rest & (X | Y):
+        raise ValueError("adjustment set overlaps exposures or outcomes")
+    skip = lambda u, v: u in X  # noqa: E731 - exposures' outgoing arrows removed
+    if not d_separated_cut(G, {z}, Y, rest, skip, proper=False):
+        return False
+    return not d_separated_cut(G, {z}, X, rest, None, proper=False)
+
+
+__all__ = [
+    "adjustment_exists",
+    "canonical_adjustment",
+    "collider_bias_path",
+    "confounding_path",
+    "forbidden",
+    "instrument_like",
+    "is_valid_adjustment",
+    "mediators",
+    "open_noncausal_path",
+    "proper_backdoor_graph",
+    "proper_backdoor_skip",
+    "proper_causal_nodes",
+    "ancestors_cut",
+]
