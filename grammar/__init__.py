@@ -1,0 +1,1 @@
+"""The diagram language grammar (diagram.lark), shipped as package data."""

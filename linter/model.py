@@ -1,0 +1,330 @@
+"""The diagram model: what a `.dag` file says, with a source span for every piece.
+
+Data flows one way: `syntax` builds a `Diagram` from text; the causal algorithms,
+rules, reporters, formatter and renderer only read it. Nothing here does I/O.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from functools import cached_property
+from typing import TYPE_CHECKING, Iterator, Literal
+
+if TYPE_CHECKING:  # networkx is imported lazily: `fmt` never needs it
+    import networkx as nx
+
+RESERVED_WORDS = frozenset(
+    "title label unmeasured period analysis exposure outcome adjust none".split()
+)
+
+# The name an analysis gets when the file has exactly one and it is unnamed.
+DEFAULT_ANALYSIS = "main"
+
+
+@dataclass(frozen=True, slots=True)
+class Span:
+    """A region of a file: 1-based lines and columns (Unicode code points), end exclusive."""
+
+    line: int
+    column: int
+    end_line: int
+    end_column: int
+
+    @classmethod
+    def at(cls, line: int, column: int, length: int = 1) -> Span:
+        return cls(line, column, line, column + max(length, 1))
+
+
+@dataclass(frozen=True, slots=True)
+class Name:
+    """One occurrence of a variable (or analysis/period) name in the file."""
+
+    text: str
+    span: Span
+
+
+@dataclass(frozen=True, slots=True)
+class Comment:
+    """A `#` comment; `trailing` when it follows a statement on the same line."""
+
+    text: str  # including the leading '#'
+    span: Span
+    trailing: bool
+
+    @property
+    def body(self) -> str:
+        return self.text[1:].strip()
+
+
+@dataclass(frozen=True, slots=True)
+class Arrow:
+    """One cause-effect pair. `bidirected` is `A <-> B` (a hidden common cause)."""
+
+    source: Name
+    target: Name
+    bidirected: bool
+    span: Span  # from the start of the source name to the end of the target name
+
+    @property
+    def line(self) -> int:
+        return self.span.line
+
+    def describe(self) -> str:
+        op = "<->" if self.bidirected else "->"
+        return f"{self.source.text} {op} {self.target.text}"
+
+
+# --- statements, in file order (the formatter prints them back) -----------------
+
+
+@dataclass(frozen=True, slots=True)
+class TitleStatement:
+    text: str  # the string literal as written, quotes included
+    span: Span
+
+
+@dataclass(frozen=True, slots=True)
+class UnmeasuredStatement:
+    names: tuple[Name, ...]
+    span: Span
+
+
+@dataclass(frozen=True, slots=True)
+class LabelStatement:
+    target: Name
+    text: str  # the string literal as written, quotes included
+    span: Span
+
+    @property
+    def value(self) -> str:
+        return unquote(self.text)
+
+
+@dataclass(frozen=True, slots=True)
+class PeriodStatement:
+    period: Name
+    names: tuple[Name, ...]
+    span: Span
+
+
+@dataclass(frozen=True, slots=True)
+class ArrowStatement:
+    """`a, b -> c <-> d`: groups of names joined by arrow operators."""
+
+    groups: tuple[tuple[Name, ...], ...]
+    operators: tuple[str, ...]
+    arrows: tuple[Arrow, ...]
+    span: Span
+
+
+RoleKey = Literal["exposure", "outcome", "adjust"]
+
+
+@dataclass(frozen=True, slots=True)
+class Entry:
+    """One `key: names` line inside an analysis block; `names` is empty for `adjust: none`."""
+
+    key: RoleKey
+    key_span: Span
+    names: tuple[Name, ...]
+    is_none: bool
+    span: Span
+
+
+@dataclass(frozen=True, slots=True)
+class Analysis:
+    """One question asked of the diagram."""
+
+    name: str
+    name_token: Name | None  # None when the name was omitted
+    header: Span  # the `analysis` keyword through the `{`
+    entries: tuple[Entry, ...]
+    closing_line: int  # the line of the closing `}`
+
+    def _names(self, key: RoleKey) -> list[Name]:
+        return [n for e in self.entries if e.key == key for n in e.names]
+
+    @property
+    def exposure(self) -> list[Name]:
+        return self._names("exposure")
+
+    @property
+    def outcome(self) -> list[Name]:
+        return self._names("outcome")
+
+    @property
+    def adjust(self) -> list[Name] | None:
+        """The declared adjustment set, or None when the block has no `adjust` key."""
+        if not any(e.key == "adjust" for e in self.entries):
+            return None
+        return self._names("adjust")
+
+    def entry(self, key: RoleKey) -> Entry | None:
+        return next((e for e in self.entries if e.key == key), None)
+
+    @property
+    def exposure_set(self) -> frozenset[str]:
+        return frozenset(n.text for n in self.exposure)
+
+    @property
+    def outcome_set(self) -> frozenset[str]:
+        return frozenset(n.text for n in self.outcome)
+
+    @property
+    def adjust_set(self) -> frozenset[str] | None:
+        adjust = self.adjust
+        return None if adjust is None else frozenset(n.text for n in adjust)
+
+
+Statement = (
+    TitleStatement
+    | UnmeasuredStatement
+    | LabelStatement
+    | PeriodStatement
+    | ArrowStatement
+    | Analysis
+)
+
+
+@dataclass(eq=False)
+class Diagram:
+    """A parsed `.dag` file.
+
+    `statements` and `comments` keep file order (for the formatter); the derived
+    views below (variables, arrows, graph, ...) are computed once on first use.
+    """
+
+    path: str
+    source: str  # the decoded text the positions refer to
+    statements: list[Statement] = field(default_factory=list)
+    comments: list[Comment] = field(default_factory=list)
+    line_count: int = 0
+
+    # -- derived views -------------------------------------------------------------
+
+    def _of_type(self, kind: type) -> Iterator:
+        return (s for s in self.statements if isinstance(s, kind))
+
+    @cached_property
+    def arrows(self) -> list[Arrow]:
+        return [a for s in self._of_type(ArrowStatement) for a in s.arrows]
+
+    @cached_property
+    def analyses(self) -> list[Analysis]:
+        return list(self._of_type(Analysis))
+
+    @cached_property
+    def title(self) -> str | None:
+        first = next(self._of_type(TitleStatement), None)
+        return None if first is None else unquote(first.text)
+
+    @cached_property
+    def labels(self) -> dict[str, str]:
+        return {s.target.text: s.value for s in self._of_type(LabelStatement)}
+
+    @cached_property
+    def unmeasured(self) -> dict[str, Name]:
+        """Variables declared `unmeasured`, with their first declaration."""
+        found: dict[str, Name] = {}
+        for s in self._of_type(UnmeasuredStatement):
+            for n in s.names:
+                found.setdefault(n.text, n)
+        return found
+
+    @cached_property
+    def periods(self) -> list[tuple[Name, tuple[Name, ...]]]:
+        """Periods in order of first appearance, each with all its members."""
+        order: dict[str, tuple[Name, list[Name]]] = {}
+        for s in self._of_type(PeriodStatement):
+            entry = order.setdefault(s.period.text, (s.period, []))
+            entry[1].extend(s.names)
+        return [(head, tuple(members)) for head, members in order.values()]
+
+    @cached_property
+    def variables(self) -> dict[str, Name]:
+        """Every variable with its first occurrence, in order of first appearance.
+
+        A variable exists once it appears in an arrow, `unmeasured` or `period`
+        statement. Names inside analyses do not create variables, and neither does
+        `label`: a label must name an existing variable (rule `unknown-variable`),
+        so a misspelt label is reported instead of silently adding a variable.
+        """
+        found: dict[str, Name] = {}
+        for s in self.statements:
+            if isinstance(s, ArrowStatement):
+                for group in s.groups:
+                    for n in group:
+                        found.setdefault(n.text, n)
+            elif isinstance(s, (UnmeasuredStatement, PeriodStatement)):
+                for n in s.names:
+                    found.setdefault(n.text, n)
+        return found
+
+    @cached_property
+    def measured(self) -> frozenset[str]:
+        """Variables that are in the data: all but the `unmeasured` ones."""
+        return frozenset(v for v in self.variables if v not in self.unmeasured)
+
+    @cached_property
+    def trailing_comments(self) -> dict[int, Comment]:
+        """Comments that end a statement line, by line (an arrow's *reason*)."""
+        return {c.span.line: c for c in self.comments if c.trailing}
+
+    def analysis(self, name: str) -> Analysis:
+        for a in self.analyses:
+            if a.name == name:
+                return a
+        known = ", ".join(a.name for a in self.analyses) or "none"
+        raise KeyError(f"no analysis named `{name}` (the file has: {known})")
+
+    @cached_property
+    def graph(self) -> nx.DiGraph:
+        """The causal graph: variables and arrows, each `A <-> B` as a hidden parent.
+
+        Hidden parents are named by `linter.causal.graph.hidden_node_name` (a name no
+        variable can have) and carry the node attribute `hidden=True`.
+        """
+        import networkx as nx
+
+        from .causal.graph import hidden_node_name
+
+        g = nx.DiGraph()
+        g.add_nodes_from(self.variables)
+        directed = []
+        for a in self.arrows:
+            if a.bidirected:
+                h = hidden_node_name(a.source.text, a.target.text)
+                g.add_node(h, hidden=True)
+                directed.append((h, a.source.text))
+                directed.append((h, a.target.text))
+            else:
+                directed.append((a.source.text, a.target.text))
+        g.add_edges_from(directed)
+        return g
+
+    @cached_property
+    def directed_graph_without_hidden(self) -> nx.DiGraph:
+        """Only the `->` arrows (used for cycles, periods and pictures)."""
+        import networkx as nx
+
+        g = nx.DiGraph()
+        g.add_nodes_from(self.variables)
+        g.add_edges_from((a.source.text, a.target.text) for a in self.arrows if not a.bidirected)
+        return g
+
+
+def unquote(literal: str) -> str:
+    """The value of a string literal: strip the quotes, undo `\\"` and `\\\\`."""
+    body = literal[1:-1]
+    if "\\" not in body:
+        return body
+    out, i = [], 0
+    while i < len(body):
+        ch = body[i]
+        if ch == "\\" and i + 1 < len(body):
+            out.append(body[i + 1])
+            i += 2
+        else:
+            out.append(ch)
+            i += 1
+    return "".join(out)

@@ -1,0 +1,40 @@
+"""Reporters: each turns findings into text. The CLI never formats output itself.
+
+A reporter is a module with `render(report: Report) -> str`; `REPORTERS` maps a
+`--format` name to the module path, imported only when that format is asked for.
+"""
+
+from __future__ import annotations
+
+import importlib
+from dataclasses import dataclass
+from typing import Callable
+
+from ..findings import Finding
+
+REPORTERS: dict[str, str] = {
+    "text": "linter.report.text",
+    "json": "linter.report.json_report",
+    "sarif": "linter.report.sarif",
+    "github": "linter.report.github",
+}
+
+
+@dataclass(frozen=True)
+class Report:
+    findings: list[Finding]
+    files: int
+    color: bool = False
+    quiet: bool = False
+    repository_root: str | None = None  # for SARIF URIs
+
+
+def counts(findings: list[Finding]) -> dict[str, int]:
+    out = {"error": 0, "warning": 0, "info": 0}
+    for f in findings:
+        out[f.severity] += 1
+    return out
+
+
+def reporter(name: str) -> Callable[[Report], str]:
+    return importlib.import_module(REPORTERS[name]).render

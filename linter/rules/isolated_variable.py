@@ -1,0 +1,47 @@
+"""isolated-variable: a variable with no arrows at all.
+
+A variable that neither causes nor is caused by anything in the diagram plays no
+part in any analysis. Either an arrow is missing or the variable can go.
+
+Bad::
+
+    unmeasured grit  # expect: isolated-variable
+    age -> sick_days
+
+Good::
+
+    unmeasured grit
+    grit -> sick_days
+    age -> sick_days
+"""
+
+from __future__ import annotations
+
+from typing import Iterator
+
+from ..findings import Finding
+from .base import Context, Rule
+
+
+def check(ctx: Context) -> Iterator[Finding]:
+    connected: set[str] = set()
+    for arrow in ctx.diagram.arrows:
+        connected.add(arrow.source.text)
+        connected.add(arrow.target.text)
+    for name, first in ctx.diagram.variables.items():
+        if name not in connected:
+            yield ctx.finding(
+                RULE,
+                first.span,
+                f"`{name}` has no arrows: add the arrows that connect it, or remove it",
+            )
+
+
+RULE = Rule(
+    name="isolated-variable",
+    severity="warning",
+    summary="A variable has no arrows at all.",
+    scope="structure",
+    check=check,
+    doc=__doc__,
+)

@@ -1,0 +1,464 @@
+"""Text -> `Diagram`: decoding, the lark LALR parser, and syntax errors in words.
+
+The grammar lives in `grammar/diagram.lark` (shipped inside the package as
+`linter/grammar/diagram.lark`). The model is built *while* parsing (an inline
+lark Transformer), so no parse tree is ever kept. Syntax errors become a single
+`syntax-error` finding that says in words what was expected, never lark's token
+names.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+
+from lark import Lark, Token, Transformer
+from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+
+from .model import (
+    RESERVED_WORDS,
+    Analysis,
+    Arrow,
+    ArrowStatement,
+    Comment,
+    Diagram,
+    Entry,
+    LabelStatement,
+    Name,
+    PeriodStatement,
+    Span,
+    TitleStatement,
+    UnmeasuredStatement,
+    DEFAULT_ANALYSIS,
+)
+
+
+@dataclass(frozen=True)
+class SyntaxProblem(Exception):
+    """A syntax error at a place, with a message in words and the source excerpt."""
+
+    message: str
+    span: Span
+    excerpt: str
+
+
+def grammar_text() -> str:
+    """The grammar, from the installed package or, in a source checkout, from grammar/."""
+    try:
+        return resources.files("linter.grammar").joinpath("diagram.lark").read_text("utf-8")
+    except (ModuleNotFoundError, FileNotFoundError, OSError):
+        here = Path(__file__).resolve().parent.parent / "grammar" / "diagram.lark"
+        return here.read_text("utf-8")
+
+
+# --- building the model while parsing ---------------------------------------------
+
+_ARROW_LINE_PIECE = re.compile(r"[^\W\d][\w.]*|<->|->|,|#[^\n]*")
+
+
+class _ReservedName(Exception):
+    def __init__(self, token: Name):
+        self.name = token
+
+
+def _span(tok: Token) -> Span:
+    return Span(tok.line, tok.column, tok.end_line, tok.end_column)
+
+
+def _name(tok: Token) -> Name:
+    return Name(str(tok), Span(tok.line, tok.column, tok.line, tok.end_column))
+
+
+def _join(first: Span, last: Span) -> Span:
+    return Span(first.line, first.column, last.end_line, last.end_column)
+
+
+def _make_arrows(groups: list[tuple[Name, ...]], operators: list[str]) -> tuple[Arrow, ...]:
+    arrows = []
+    for i, op in enumerate(operators):
+        bidirected = op == "<->"
+        for src in groups[i]:
+            for dst in groups[i + 1]:
+                arrows.append(Arrow(src, dst, bidirected, _join(src.span, dst.span)))
+    return tuple(arrows)
+
+
+class _Builder(Transformer):
+    """Inline transformer: lark calls these as it reduces, bottom-up."""
+
+    def __init__(self) -> None:
+        super().__init__(visit_tokens=False)
+        self.comments: list[Comment] = []
+
+    # statements -------------------------------------------------------------
+    def names(self, children):
+        return tuple(_name(t) for t in children if t.type == "NAME")
+
+    def title(self, children):
+        kw, string = children
+        return TitleStatement(str(string), _join(_span(kw), _span(string)))
+
+    def unmeasured(self, children):
+        kw, names = children
+        return UnmeasuredStatement(names, _join(_span(kw), names[-1].span))
+
+    def label(self, children):
+        kw, target, string = children
+        return LabelStatement(_name(target), str(string), _join(_span(kw), _span(string)))
+
+    def period(self, children):
+        kw, period, _colon, names = children
+        return PeriodStatement(_name(period), names, _join(_span(kw), names[-1].span))
+
+    def arrows(self, children):
+        groups = children[0::2]
+        operators = [str(t) for t in children[1::2]]
+        return ArrowStatement(
+            tuple(groups),
+            tuple(operators),
+            _make_arrows(groups, operators),
+            _join(groups[0][0].span, groups[-1][-1].span),
+        )
+
+    def arrow_line(self, children):
+        """Split a whole ARROW_LINE token (the fast path) into names and operators."""
+        (tok,) = children
+        line, col0 = tok.line, tok.column
+        groups: list[tuple[Name, ...]] = []
+        current: list[Name] = []
+        operators: list[str] = []
+        comment = None
+        for m in _ARROW_LINE_PIECE.finditer(tok):
+            piece = m.group()
+            ch = piece[0]
+            if ch == ",":
+                continue
+            if ch == "-" or ch == "<":
+                operators.append(piece)
+                groups.append(tuple(current))
+                current = []
+            elif ch == "#":
+                comment = Comment(piece, Span.at(line, col0 + m.start(), len(piece)), True)
+            else:
+                col = col0 + m.start()
+                n = Name(piece, Span(line, col, line, col + len(piece)))
+                if piece in RESERVED_WORDS:
+                    raise _ReservedName(n)
+                current.append(n)
+        groups.append(tuple(current))
+        if comment is not None:
+            self.comments.append(comment)
+        return (
+            ArrowStatement(
+                tuple(groups),
+                tuple(operators),
+                _make_arrows(groups, operators),
+                _join(groups[0][0].span, groups[-1][-1].span),
+            ),
+            line,
+        )
+
+    def entry(self, children):
+        key, _colon, value = children
+        if isinstance(value, Token):  # `adjust: none`
+            return Entry(str(key), _span(key), (), True, _join(_span(key), _span(value)))
+        return Entry(str(key), _span(key), value, False, _join(_span(key), value[-1].span))
+
+    def analysis(self, children):
+        kw = children[0]
+        name_token = None
+        i = 1
+        if isinstance(children[1], Token) and children[1].type == "NAME":
+            name_token = _name(children[1])
+            i = 2
+        brace = children[i]
+        entries = []
+        last_statement_line = brace.line
+        for item in children[i + 1 : -1]:
+            if isinstance(item, Entry):
+                entries.append(item)
+                last_statement_line = item.span.line
+            else:  # an EOL token, maybe with a comment
+                self._eol(item, last_statement_line)
+        closing = children[-1]
+        return Analysis(
+            name=name_token.text if name_token else DEFAULT_ANALYSIS,
+            name_token=name_token,
+            header=_join(_span(kw), _span(brace)),
+            entries=tuple(entries),
+            closing_line=closing.line,
+        )
+
+    def _eol(self, tok: Token, statement_line: int) -> None:
+        if tok[0] == "#":
+            text = tok.rstrip("\n")
+            self.comments.append(
+                Comment(text, Span.at(tok.line, tok.column, len(text)), tok.line == statement_line)
+            )
+
+    def start(self, children):
+        statements = []
+        last_line = 0
+        for item in children:
+            if isinstance(item, Token):  # EOL
+                self._eol(item, last_line)
+            elif isinstance(item, tuple):  # arrow_line: (statement, line)
+                statements.append(item[0])
+                last_line = item[1]
+            else:
+                statements.append(item)
+                last_line = item.closing_line if isinstance(item, Analysis) else item.span.end_line
+        return statements
+
+
+@lru_cache(maxsize=1)
+def _parser() -> tuple[Lark, _Builder]:
+    # The builder is bound once (binding per parse would rebuild the parse table);
+    # its per-file state is reset before every parse. Not thread-safe, by design.
+    builder = _Builder()
+    lark = Lark(
+        grammar_text(), parser="lalr", lexer="basic", transformer=builder, maybe_placeholders=False
+    )
+    return lark, builder
+
+
+def _parse_statements(text: str) -> tuple[list, list[Comment]]:
+    lark, builder = _parser()
+    builder.comments = []
+    statements = lark.parse(text)
+    comments = sorted(builder.comments, key=lambda c: (c.span.line, c.span.column))
+    return statements, comments
+
+
+# --- decoding ----------------------------------------------------------------------
+
+
+def decode(data: bytes, path: str) -> tuple[str | None, SyntaxProblem | None]:
+    """Bytes -> text: UTF-8 (a leading BOM dropped), CRLF -> LF; problems as findings."""
+    nul = data.find(b"\x00")
+    if nul >= 0:
+        line, col = _byte_position(data, nul)
+        return None, SyntaxProblem(
+            "this looks like a binary file, not a diagram: it contains a NUL byte",
+            Span.at(line, col),
+            "",
+        )
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as e:
+        line, col = _byte_position(data, e.start)
+        return None, SyntaxProblem(
+            f"the file is not UTF-8 text: byte 0x{data[e.start]:02x} cannot be decoded; "
+            "save it as UTF-8",
+            Span.at(line, col),
+            "",
+        )
+    if text.startswith("\ufeff"):
+        text = text[1:]
+    return text.replace("\r\n", "\n"), None
+
+
+def _byte_position(data: bytes, offset: int) -> tuple[int, int]:
+    line_start = data.rfind(b"\n", 0, offset) + 1
+    line = data.count(b"\n", 0, offset) + 1
+    prefix = data[line_start:offset].decode("utf-8", errors="replace")
+    return line, len(prefix) + 1
+
+
+# --- the entry point -----------------------------------------------------------------
+
+
+def parse_source(data: bytes | str, path: str) -> tuple[Diagram | None, SyntaxProblem | None]:
+    """Parse a diagram. Returns (diagram, None) or (None, the syntax problem)."""
+    if isinstance(data, bytes):
+        text, problem = decode(data, path)
+        if problem is not None:
+            return None, problem
+    else:
+        text = data.removeprefix("\ufeff").replace("\r\n", "\n")
+    assert text is not None
+    parse_text = text if text.endswith("\n") else text + "\n"
+    try:
+        statements, comments = _parse_statements(parse_text)
+    except _ReservedName as e:
+        return None, _problem(parse_text, e.name.span, _reserved_message(e.name.text))
+    except UnexpectedInput as e:
+        return None, _explain(parse_text, e)
+    for statement in statements:
+        if isinstance(statement, Analysis):
+            for key in ("exposure", "outcome"):
+                if statement.entry(key) is None:
+                    return None, _problem(
+                        parse_text,
+                        statement.header,
+                        f"analysis `{statement.name}` has no `{key}:` line; "
+                        "an analysis needs an exposure and an outcome",
+                    )
+    return (
+        Diagram(
+            path=path,
+            source=text,
+            statements=statements,
+            comments=comments,
+            line_count=parse_text.count("\n"),
+        ),
+        None,
+    )
+
+
+# --- syntax errors in words ------------------------------------------------------------
+
+_KEYWORDS = {w.upper(): w for w in RESERVED_WORDS}
+_WORDS = {
+    "NAME": "a variable name",
+    "ARROW": "`->` or `<->`",
+    "COMMA": "`,`",
+    "COLON": "`:`",
+    "STRING": 'a quoted string such as "text"',
+    "EOL": "the end of the line",
+    "LBRACE": "`{`",
+    "RBRACE": "`}`",
+    "ARROW_LINE": "an arrow statement",
+    "$END": "the end of the file",
+}
+# Terminals that can start a top-level statement; when they are what is expected,
+# say "a statement" instead of listing them.
+_STATEMENT_STARTERS = {"TITLE", "UNMEASURED", "LABEL", "PERIOD", "ANALYSIS", "ARROW_LINE"}
+_ORDER = [
+    "NAME", "ARROW", "COMMA", "COLON", "STRING", "LBRACE", "RBRACE", "NONE",
+    "EXPOSURE", "OUTCOME", "ADJUST", "EOL",
+]  # fmt: skip
+
+
+def _reserved_message(word: str) -> str:
+    return (
+        f"`{word}` is a reserved word and cannot be a variable name; "
+        f"rename the variable (for example `{word}_var`)"
+    )
+
+
+def _excerpt(text: str, span: Span) -> str:
+    lines = text.split("\n")
+    line = lines[span.line - 1] if 0 < span.line <= len(lines) else ""
+    # keep tabs so the caret lines up under the offending character in a terminal
+    pad = "".join(ch if ch == "\t" else " " for ch in line[: span.column - 1])
+    return f"{line}\n{pad}^"
+
+
+def _problem(text: str, span: Span, message: str) -> SyntaxProblem:
+    return SyntaxProblem(message, span, _excerpt(text, span))
+
+
+def _describe_found(tok: Token) -> str:
+    if tok.type == "$END":
+        return "the end of the file"
+    if tok.type == "EOL":
+        return "the end of the line" if tok[0] != "#" else "a comment"
+    if tok.type == "ARROW_LINE":
+        return "an arrow statement"
+    if tok.type == "STRING":
+        return f"the string {tok}"
+    return f"`{tok}`"
+
+
+def _alternatives(expected: set[str]) -> str:
+    if _STATEMENT_STARTERS & expected and "NAME" in expected:
+        return (
+            "a statement (an arrow such as `a -> b`, or one of `title`, `unmeasured`, "
+            "`label`, `period`, `analysis`)"
+        )
+    words = []
+    if {"EXPOSURE", "OUTCOME", "ADJUST"} <= expected:
+        words.append("`exposure:`, `outcome:` or `adjust:`")
+        expected = expected - {"EXPOSURE", "OUTCOME", "ADJUST"}
+    for term in _ORDER:
+        if term in expected:
+            words.append(_WORDS.get(term) or f"`{_KEYWORDS.get(term, term.lower())}`")
+    if not words:
+        words = ["something else"]
+    if len(words) == 1:
+        return words[0]
+    return ", ".join(words[:-1]) + " or " + words[-1]
+
+
+def _previous_tokens(text: str, upto: int) -> list[Token]:
+    """Re-lex the text before the error (errors only; costs nothing on good files)."""
+    lark, _ = _parser()
+    out = []
+    try:
+        for tok in lark.lex(text):
+            if tok.start_pos is not None and tok.start_pos >= upto:
+                break
+            out.append(tok)
+    except UnexpectedInput:
+        pass
+    return out
+
+
+def _end_span(text: str) -> Span:
+    lines = text.rstrip("\n").split("\n")
+    return Span.at(len(lines), len(lines[-1]) + 1)
+
+
+def _explain(text: str, e: UnexpectedInput) -> SyntaxProblem:
+    if isinstance(e, UnexpectedCharacters):
+        span = Span.at(e.line, e.column)
+        ch = e.char
+        if ch == '"':
+            msg = 'this string is not closed: end it with `"` on the same line'
+        elif ch.isdigit():
+            msg = f"a name cannot start with a digit (`{ch}`): start it with a letter or `_`"
+        elif ch in "<-=>":
+            msg = f"unexpected `{ch}`: arrows are written `->` (cause) or `<->` (shared hidden cause)"
+        elif ch == ";":
+            msg = "unexpected `;`: statements end at the end of the line, without `;`"
+        else:
+            msg = (
+                f"unexpected character `{ch}`: names use letters, digits, `_` and `.`, "
+                "and start with a letter or `_`"
+            )
+        return _problem(text, span, msg)
+
+    tok: Token = e.token if isinstance(e, UnexpectedToken) else Token("$END", "")
+    expected = set(getattr(e, "expected", ()) or ())
+    if tok.type == "$END" or tok.line is None:
+        start = len(text)
+        span = _end_span(text)
+    else:
+        start = tok.start_pos
+        span = Span(tok.line, tok.column, tok.line, tok.column + max(len(tok.rstrip("\n")), 1))
+    before = _previous_tokens(text, start)
+    prev = next((t for t in reversed(before)), None)
+
+    if tok.type == "$END" and "RBRACE" in expected:
+        opening = next((t for t in reversed(before) if t.type == "LBRACE"), None)
+        if opening is not None:
+            return _problem(
+                text,
+                _span(opening),
+                "this `{` opens an analysis block that is never closed: "
+                "add a line with `}` after its entries",
+            )
+    if tok.type in _KEYWORDS and "NAME" in expected:
+        return _problem(text, span, _reserved_message(str(tok)))
+    if tok.type == "ARROW_LINE" and "RBRACE" in expected:
+        return _problem(
+            text, span, "arrows go outside analysis blocks: close the block with `}` first"
+        )
+    if tok.type == "NAME" and {"EXPOSURE", "OUTCOME", "ADJUST"} <= expected:
+        return _problem(
+            text,
+            span,
+            f"unknown key `{tok}`: an analysis block holds `exposure:`, `outcome:` and "
+            "`adjust:` lines, and ends with `}`",
+        )
+    found = _describe_found(tok)
+    alternatives = _alternatives(expected)
+    if prev is None or prev.type == "EOL" or prev.type == "ARROW_LINE":
+        msg = f"expected {alternatives}, found {found}"
+    else:
+        msg = f"expected {alternatives} after `{str(prev).rstrip()}`, found {found}"
+    return _problem(text, span, msg)
