@@ -1,0 +1,169 @@
+"""SARIF output: validates against the official 2.1.0 schema, and says the right things.
+
+The schema is the OASIS one ("Static Analysis Results Interchange Format (SARIF)
+Version 2.1.0", 2020), kept beside the repository in shared/schemas/.
+"""
+
+from __future__ import annotations
+
+import json
+import subprocess
+from pathlib import Path
+
+import jsonschema
+import pytest
+
+from linter.cli import main
+from linter.engine import lint_source
+from linter.report import Report
+from linter.report.sarif import log, render
+from linter.rules import ALL_RULES
+
+REPO = Path(__file__).resolve().parents[1]
+SCHEMA_PATH = Path(__file__).resolve().parents[2] / "shared/schemas/sarif-schema-2.1.0.json"
+
+# A diagram of our own with one known cycle finding: the cycle is reported at the
+# arrow that comes last (line 3), with the other arrow of the cycle (line 2) related.
+CYCLE = """\
+title "Stress and sleep"
+stress -> sleep_loss  # worry keeps people awake
+sleep_loss -> stress
+stress -> sick_days
+"""
+
+INLINE = {
+    "cycle": CYCLE,
+    "syntax-error": "age -> \n",
+    "clean": "age -> enrolled -> sick_days\nage -> sick_days\n",
+    "empty": "",
+}
+
+
+@pytest.fixture(scope="module")
+def validator() -> jsonschema.Draft4Validator:
+    # Fail loudly (never skip) when the schema is missing: CI must have it.
+    assert SCHEMA_PATH.is_file(), f"official SARIF schema missing at {SCHEMA_PATH}"
+    schema = json.loads(SCHEMA_PATH.read_text("utf-8"))
+    jsonschema.Draft4Validator.check_schema(schema)
+    return jsonschema.Draft4Validator(schema)
+
+
+def _diagram_files() -> list[Path]:
+    found = sorted(REPO.glob("samples/**/*.dag")) + sorted(REPO.glob("tests/fixtures/**/*.dag"))
+    return found
+
+
+def _sarif_for(paths_and_texts: list[tuple[str, str | bytes]], root: Path) -> dict:
+    findings = []
+    for path, text in paths_and_texts:
+        findings.extend(lint_source(text, path).findings)
+    return log(Report(findings, len(paths_and_texts), repository_root=str(root)))
+
+
+def test_every_sample_and_fixture_validates(validator, monkeypatch):
+    monkeypatch.chdir(REPO)
+    files = _diagram_files()
+    cases = [(str(p.relative_to(REPO)), p.read_bytes()) for p in files]
+    cases += [(f"inline/{name}.dag", text) for name, text in INLINE.items()]
+    # each file on its own (so one bad file cannot hide behind another) and all together
+    for case in cases:
+        doc = _sarif_for([case], REPO)
+        errors = sorted(validator.iter_errors(doc), key=str)
+        assert not errors, f"{case[0]}: {errors[0].message} at {list(errors[0].absolute_path)}"
+    doc = _sarif_for(cases, REPO)
+    validator.validate(doc)
+    results = doc["runs"][0]["results"]
+    # every finding became a result that points at its file, relative to the root
+    expected = sum(len(lint_source(text, path).findings) for path, text in cases)
+    assert len(results) == expected
+    uris = {r["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] for r in results}
+    assert "inline/cycle.dag" in uris and "inline/syntax-error.dag" in uris
+    for p in files:
+        assert not str(p.relative_to(REPO)).startswith("/")
+
+
+def test_known_cycle_finding_positions_and_related_location(validator, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "stress.dag").write_text(CYCLE, "utf-8")
+    doc = _sarif_for([("stress.dag", CYCLE)], tmp_path)
+    validator.validate(doc)
+    run = doc["runs"][0]
+    (cycle,) = [r for r in run["results"] if r["ruleId"] == "cycle"]
+    rules = run["tool"]["driver"]["rules"]
+    assert rules[cycle["ruleIndex"]]["id"] == "cycle"
+    assert cycle["level"] == "error"
+    assert "sleep_loss -> stress" in cycle["message"]["text"]
+    location = cycle["locations"][0]["physicalLocation"]
+    assert location["artifactLocation"] == {"uri": "stress.dag", "uriBaseId": "%SRCROOT%"}
+    # `sleep_loss -> stress` on line 3: columns 1..20, end exclusive -> 21
+    assert location["region"] == {"startLine": 3, "startColumn": 1, "endLine": 3, "endColumn": 21}
+    (related,) = cycle["relatedLocations"]
+    assert related["message"]["text"] == "arrow stress -> sleep_loss"
+    assert related["physicalLocation"]["region"] == {
+        "startLine": 2,
+        "startColumn": 1,
+        "endLine": 2,
+        "endColumn": 21,
+    }
+    assert run["originalUriBaseIds"]["%SRCROOT%"]["uri"] == tmp_path.resolve().as_uri() + "/"
+
+
+def test_rule_catalogue_in_driver(validator):
+    doc = log(Report([], 0, repository_root=str(REPO)))
+    validator.validate(doc)
+    driver = doc["runs"][0]["tool"]["driver"]
+    from linter.version import __version__
+
+    assert driver["name"] == "dagward" and driver["version"] == __version__
+    assert [r["id"] for r in driver["rules"]] == [r.name for r in ALL_RULES]
+    by_id = {r["id"]: r for r in driver["rules"]}
+    cycle = by_id["cycle"]
+    assert cycle["shortDescription"]["text"] == "The arrows contain a directed cycle."
+    assert cycle["fullDescription"]["text"].startswith(
+        "The arrows go round in a circle. A causal diagram must be acyclic"
+    )
+    assert cycle["defaultConfiguration"] == {"level": "error", "enabled": True}
+    # the help holds the bad and the good example, as fenced code in Markdown
+    assert "stress -> sleep_loss" in cycle["help"]["text"]
+    assert "**Bad:**\n\n```\nstress -> sleep_loss\nsleep_loss -> stress\n```" in cycle["help"]["markdown"]
+    assert "# expect:" not in cycle["help"]["markdown"]
+    reason = by_id["arrow-without-reason"]
+    assert reason["defaultConfiguration"] == {"level": "note", "enabled": False}
+
+
+def test_uri_is_percent_encoded_and_relative_to_git_root(validator, tmp_path, monkeypatch):
+    subprocess.run(["git", "init", "-q", str(tmp_path)], check=True)
+    folder = tmp_path / "causal models"
+    folder.mkdir()
+    (folder / "größe.dag").write_text("größe -> gewicht\n", "utf-8")
+    (folder / "loop.dag").write_text("a -> b\nb -> a\n", "utf-8")
+    monkeypatch.chdir(folder)
+    code = main(["check", "loop.dag", "größe.dag", "--format", "sarif", "--output", "out.sarif"])
+    assert code == 1
+    doc = json.loads((folder / "out.sarif").read_text("utf-8"))
+    validator.validate(doc)
+    (result,) = doc["runs"][0]["results"]
+    assert result["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] == (
+        "causal%20models/loop.dag"
+    )
+    # a file outside the repository root gets an absolute file URI
+    outside = tmp_path.parent / f"{tmp_path.name}-outside.dag"
+    outside.write_text("a -> a\n", "utf-8")
+    try:
+        findings = lint_source(outside.read_text("utf-8"), str(outside)).findings
+        doc = log(Report(findings, 1, repository_root=str(tmp_path)))
+        validator.validate(doc)
+        loc = doc["runs"][0]["results"][0]["locations"][0]["physicalLocation"]
+        assert loc["artifactLocation"] == {"uri": outside.resolve().as_uri()}
+    finally:
+        outside.unlink()
+
+
+def test_unicode_path_encoding(validator, tmp_path):
+    (tmp_path / "größe.dag").write_text("a -> a\n", "utf-8")
+    findings = lint_source("a -> a\n", str(tmp_path / "größe.dag")).findings
+    doc = json.loads(render(Report(findings, 1, repository_root=str(tmp_path))))
+    validator.validate(doc)
+    uri = doc["runs"][0]["results"][0]["locations"][0]["physicalLocation"]["artifactLocation"]
+    assert uri["uri"] == "gr%C3%B6%C3%9Fe.dag"
+    assert doc["runs"][0]["results"][0]["level"] == "error"
