@@ -230,6 +230,7 @@ class Table:
         }
         self._numeric_cache: dict[str, np.ndarray] = {}
         self._codes_cache: dict[str, tuple[np.ndarray, list[Any]]] = {}
+        self._rankers: dict[str, _Ranker] = {}
 
     @classmethod
     def from_columns(cls, columns: Mapping[str, Sequence[Any]], *, source: str = "<memory>",
@@ -271,6 +272,13 @@ class Table:
         if self.is_categorical(name):
             return self.codes(name)[0] < 0
         return _np.isnan(self.numeric(name))
+
+    def ranker(self, name: str) -> _Ranker:
+        """The column's sort structure for ranking within row subsets."""
+        ranker = self._rankers.get(name)
+        if ranker is None:
+            ranker = self._rankers[name] = _Ranker(self.numeric(name))
+        return ranker
 
     def codes(self, name: str) -> tuple[np.ndarray, list[Any]]:
         """Integer level codes (-1 for missing) and the level values, sorted."""
@@ -535,6 +543,7 @@ class _MomentBlock:
 
     Tests whose columns share the same missing-value pattern share one block,
     so a run over a complete table computes one covariance matrix in all.
+    Used for spearman; pearson uses :class:`_PartialRowMoments`.
     """
 
     def __init__(self, table: Table, columns: Sequence[str], rows: np.ndarray | None,
@@ -542,14 +551,90 @@ class _MomentBlock:
         self.index = {name: i for i, name in enumerate(columns)}
         data = _np.empty((table.n_rows if rows is None else int(rows.sum()), len(columns)))
         for j, name in enumerate(columns):
-            values = table.numeric(name)
-            if rows is not None:
-                values = values[rows]
-            data[:, j] = _sps.rankdata(values) if spearman else values
+            if spearman:
+                data[:, j] = table.ranker(name).ranks(rows)
+            else:
+                values = table.numeric(name)
+                data[:, j] = values if rows is None else values[rows]
         self.n = data.shape[0]
         self.constant = {name: bool(self.n == 0 or _np.ptp(data[:, j]) == 0)
                          for name, j in self.index.items()}
         self.cov = _covariance(data) if self.n > 1 else _np.zeros((len(columns),) * 2)
+
+
+class _PartialRowMoments:
+    """Complete-case covariances for many column sets at the cost of one.
+
+    Rows complete on every column ("base" rows) are summed once; for a test,
+    the rows that miss some column but none of the test's columns are added
+    to those sums. With few incomplete rows this makes each test cheap however
+    the missing cells are scattered. Values are shifted by the base means
+    before summing so the one-pass covariance formula stays accurate.
+    """
+
+    def __init__(self, table: Table, columns: Sequence[str]) -> None:
+        self.index = {name: i for i, name in enumerate(columns)}
+        data = _np.column_stack([table.numeric(name) for name in columns])
+        missing = _np.isnan(data)
+        incomplete = missing.any(axis=1)
+        base = data[~incomplete] if incomplete.any() else data
+        self.shift = base.mean(axis=0) if base.shape[0] else _np.zeros(len(columns))
+        base = base - self.shift
+        self.n_base = base.shape[0]
+        self.sum = base.sum(axis=0)
+        self.cross = base.T @ base
+        self.low = base.min(axis=0) if self.n_base else _np.full(len(columns), _np.inf)
+        self.high = base.max(axis=0) if self.n_base else _np.full(len(columns), -_np.inf)
+        self.extra = data[incomplete] - self.shift
+        self.extra_missing = missing[incomplete]
+
+    def for_columns(self, names: Sequence[str]) -> tuple[int, np.ndarray, dict[str, bool]]:
+        index = [self.index[name] for name in names]
+        rows = ~self.extra_missing[:, index].any(axis=1)
+        extra = self.extra[rows][:, index]
+        n = self.n_base + extra.shape[0]
+        total = self.sum[index] + extra.sum(axis=0)
+        cross = self.cross[_np.ix_(index, index)] + extra.T @ extra
+        cov = (cross - _np.outer(total, total) / max(n, 1)) / max(n - 1, 1)
+        low = _np.minimum(self.low[index], extra.min(axis=0) if extra.shape[0] else _np.inf)
+        high = _np.maximum(self.high[index], extra.max(axis=0) if extra.shape[0] else -_np.inf)
+        constant = {name: bool(n == 0 or low[j] == high[j]) for j, name in enumerate(names)}
+        return n, cov, constant
+
+
+class _Ranker:
+    """Average ranks of one column within any subset of its rows in O(n).
+
+    The column is sorted once; for a subset, a cumulative count along the
+    sorted order gives each tie group's position, so each test ranks within
+    its own complete cases without sorting again.
+    """
+
+    def __init__(self, values: np.ndarray) -> None:
+        present = _np.flatnonzero(~_np.isnan(values))
+        self.order = present[_np.argsort(values[present], kind="stable")]
+        ordered = values[self.order]
+        new_group = _np.empty(ordered.shape[0], dtype=bool)
+        new_group[:1] = True
+        new_group[1:] = ordered[1:] != ordered[:-1]
+        self.starts = _np.flatnonzero(new_group)
+        self.ends = _np.append(self.starts[1:], ordered.shape[0])
+        self.group_of_row = _np.full(values.shape[0], -1, dtype=_np.int64)
+        self.group_of_row[self.order] = _np.cumsum(new_group) - 1
+
+    def ranks(self, rows: np.ndarray | None) -> np.ndarray:
+        """Average ranks (1-based, as scipy.stats.rankdata) of the values in
+        ``rows`` (a boolean mask of present values; None = all rows)."""
+        if rows is None:
+            counts = _np.arange(self.order.shape[0] + 1, dtype=float)
+            groups = self.group_of_row
+        else:
+            counts = _np.zeros(self.order.shape[0] + 1)
+            _np.cumsum(rows[self.order], out=counts[1:])
+            groups = self.group_of_row[rows]
+        before = counts[self.starts]
+        tied = counts[self.ends] - before
+        return (before + (tied + 1.0) / 2.0)[groups]
 
 
 def _numeric_test(cov: np.ndarray, n: int, names: Sequence[str], constant: Mapping[str, bool],
@@ -728,23 +813,36 @@ def test_independencies(
         key = frozenset(name for name in ind.columns() if has_missing[name])
         groups.setdefault(key, []).append(i)
 
-    for key, members in groups.items():
+    if method == "pearson" and groups:
+        members = sorted(i for group in groups.values() for i in group)
         names = list(dict.fromkeys(name for i in members for name in items[i].columns()))
-        rows = None
-        if key:
-            rows = _np.ones(table.n_rows, dtype=bool)
-            for name in key:
-                rows &= ~table.missing(name)
-        block = _MomentBlock(table, names, rows, method == "spearman")
+        moments = _PartialRowMoments(table, names)
         for i in members:
-            ind = items[i]
-            if block.n < 2:
-                raws[i] = _untested(method, block.n, f"too few complete cases (n = {block.n})")
+            n, cov, constant = moments.for_columns(items[i].columns())
+            if n < 2:
+                raws[i] = _untested(method, n, f"too few complete cases (n = {n})")
             else:
-                index = [block.index[name] for name in ind.columns()]
-                sub = block.cov[_np.ix_(index, index)]
-                raws[i] = _numeric_test(sub, block.n, ind.columns(), block.constant, method)
+                raws[i] = _numeric_test(cov, n, items[i].columns(), constant, method)
             report()
+    else:
+        for key, members in groups.items():
+            names = list(dict.fromkeys(name for i in members for name in items[i].columns()))
+            rows = None
+            if key:
+                rows = _np.ones(table.n_rows, dtype=bool)
+                for name in key:
+                    rows &= ~table.missing(name)
+            block = _MomentBlock(table, names, rows, method == "spearman")
+            for i in members:
+                ind = items[i]
+                if block.n < 2:
+                    raws[i] = _untested(method, block.n,
+                                        f"too few complete cases (n = {block.n})")
+                else:
+                    index = [block.index[name] for name in ind.columns()]
+                    sub = block.cov[_np.ix_(index, index)]
+                    raws[i] = _numeric_test(sub, block.n, ind.columns(), block.constant, method)
+                report()
 
     final = [raw for raw in raws if raw is not None]
     assert len(final) == total

@@ -309,26 +309,48 @@ def test_holm_runs_across_all_tests_of_a_run() -> None:
 # run-level behaviour
 
 
-def test_complete_cases_per_test_and_order_kept() -> None:
-    data = correlated(500, 4, seed=1)
+@pytest.mark.parametrize("method", ["pearson", "spearman"])
+def test_complete_cases_per_test_and_order_kept(method: str) -> None:
+    # Missing cells scattered over several columns: every test must use
+    # exactly its own complete cases (and, for spearman, rank within them).
+    data = np.round(correlated(500, 4, seed=1), 0)  # rounding makes ties
     rng = np.random.default_rng(1)
     data[rng.choice(500, 40, replace=False), 2] = np.nan
     data[rng.choice(500, 25, replace=False), 3] = np.nan
+    data[rng.choice(500, 10, replace=False), 0] = np.nan
     table = Table.from_columns(dict(zip("abcd", data.T, strict=True)))
-    tests = [Independence("a", "b", ("c",)), Independence("a", "b"),
-             Independence("b", "c", ("d",)), Independence("a", "b", ("c", "d"))]
+    tests = [Independence("a", "b", ("c",)), Independence("b", "c"),
+             Independence("b", "c", ("d",)), Independence("a", "b", ("c", "d")),
+             Independence("d", "b")]
     seen = []
-    results = run_tests(table, tests, progress=lambda done, total: seen.append((done, total)))
-    assert seen == [(1, 4), (2, 4), (3, 4), (4, 4)]
+    results = run_tests(table, tests, method=method,
+                        progress=lambda done, total: seen.append((done, total)))
+    assert seen == [(1, 5), (2, 5), (3, 5), (4, 5), (5, 5)]
     for test, result in zip(tests, results, strict=True):
         assert result.independence == test
         cols = [ord(c) - ord("a") for c in test.columns()]
         keep = ~np.isnan(data[:, cols]).any(axis=1)
         sub = data[keep][:, cols]
+        if method == "spearman":
+            sub = np.column_stack([sps.rankdata(col) for col in sub.T])
         assert result.n == int(keep.sum())
         assert result.effect == pytest.approx(partial_correlation(sub[:, 0], sub[:, 1],
                                                                   sub[:, 2:]), abs=1e-10)
-    assert results[1].n == 500 and results[0].n == 460
+    assert results[1].n == 460 and results[4].n == 475
+
+
+def test_ranks_within_subsets_match_rankdata() -> None:
+    rng = np.random.default_rng(44)
+    values = rng.integers(0, 30, size=2000).astype(float)
+    values[rng.choice(2000, 100, replace=False)] = np.nan
+    ranker = S._Ranker(values)
+    present = ~np.isnan(values)
+    np.testing.assert_allclose(ranker.ranks(present), sps.rankdata(values[present]))
+    for _ in range(5):
+        rows = present & (rng.random(2000) < 0.7)
+        np.testing.assert_allclose(ranker.ranks(rows), sps.rankdata(values[rows]))
+    full = rng.normal(size=300)
+    np.testing.assert_allclose(S._Ranker(full).ranks(None), sps.rankdata(full))
 
 
 def test_rejected_needs_both_significance_and_effect() -> None:
