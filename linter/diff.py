@@ -964,7 +964,8 @@ def render_text(report: DiffReport) -> str:
 
 
 def _plain(text: str) -> str:
-    return text.replace("`", "")
+    # backticks stay: the rules' messages use them to set names apart in text too
+    return text
 
 
 def _md_cell(text: str) -> str:

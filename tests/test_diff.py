@@ -1,0 +1,379 @@
+"""`dagward diff` on real git histories built in the test.
+
+The verdicts and minimal sets the diff reports are checked against an oracle
+written here from the definitions with networkx's own d-separation test
+(`networkx.is_d_separator`): the generalised adjustment criterion (Shpitser,
+VanderWeele & Robins 2010, "On the validity of covariate adjustment for estimating
+causal effects", UAI; Perkovic, Textor, Kalisch & Maathuis 2018, JMLR 18(220),
+Definition of forb and the proper back-door graph) and brute force over subsets
+for inclusion-minimal sets. The diagrams are invented (staff wellness programme).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+from itertools import combinations
+from pathlib import Path
+
+import networkx as nx
+import pytest
+
+from linter.cli import main
+
+WELLNESS = """\
+title "Wellness programme and sick days"
+age -> enrolled, sick_days
+fitness_base -> enrolled, sick_days
+shift_work -> enrolled
+enrolled -> fitness_12m -> sick_days
+
+analysis total_effect {
+  exposure: enrolled
+  outcome: sick_days
+  adjust: age, fitness_base
+}
+"""
+# commit 2: one new arrow, on line 5
+WELLNESS_2 = WELLNESS.replace(
+    "shift_work -> enrolled\n", "shift_work -> enrolled\nshift_work -> sick_days\n"
+)
+# commit 3: `age` is no longer a confounder (its arrow into `enrolled`, line 2, is
+# removed) and the declared set follows the new diagram
+WELLNESS_3 = WELLNESS_2.replace("age -> enrolled, sick_days", "age -> sick_days").replace(
+    "adjust: age, fitness_base", "adjust: fitness_base, shift_work"
+)
+HEAT = """\
+canopy -> surface_temp -> heat_admissions
+income -> canopy, heat_admissions
+"""
+SOIL = """\
+amendment -> soil_carbon -> yield
+rainfall -> yield
+"""
+
+
+# --- the oracle ------------------------------------------------------------------------
+
+
+def _graph(arrows: list[tuple[str, str]]) -> nx.DiGraph:
+    g = nx.DiGraph()
+    g.add_edges_from(arrows)
+    return g
+
+
+def oracle_valid(g: nx.DiGraph, x: str, y: str, z: set[str]) -> bool:
+    """Generalised adjustment criterion for one exposure, straight from the definition."""
+    cn = {w for w in nx.descendants(g, x) if w == y or y in nx.descendants(g, w)}
+    forb = set(cn)
+    for w in cn:
+        forb |= nx.descendants(g, w)
+    if z & (forb | {x, y}):
+        return False
+    pbd = g.copy()
+    pbd.remove_edges_from([(x, w) for w in list(g.successors(x)) if w in cn])
+    return nx.is_d_separator(pbd, {x}, {y}, z)
+
+
+def oracle_minimal_sets(g: nx.DiGraph, x: str, y: str, measured: set[str]) -> list[list[str]]:
+    candidates = sorted(measured - {x, y})
+    valid = [
+        set(c)
+        for k in range(len(candidates) + 1)
+        for c in combinations(candidates, k)
+        if oracle_valid(g, x, y, set(c))
+    ]
+    minimal = [s for s in valid if not any(t < s for t in valid)]
+    return sorted((sorted(s) for s in minimal), key=lambda s: (len(s), s))
+
+
+G1 = _graph([("age", "enrolled"), ("age", "sick_days"), ("fitness_base", "enrolled"),
+             ("fitness_base", "sick_days"), ("shift_work", "enrolled"),
+             ("enrolled", "fitness_12m"), ("fitness_12m", "sick_days")])  # fmt: skip
+G2 = G1.copy()
+G2.add_edge("shift_work", "sick_days")
+G3 = G2.copy()
+G3.remove_edge("age", "enrolled")
+MEASURED = set(G1)
+
+
+# --- helpers ---------------------------------------------------------------------------
+
+
+def git(repo: Path, *args: str) -> str:
+    done = subprocess.run(
+        ["git", "-c", "user.name=test", "-c", "user.email=test@example.invalid", *args],
+        cwd=repo,
+        capture_output=True,
+        text=True,
+        check=True,
+    )
+    return done.stdout.strip()
+
+
+def write(repo: Path, path: str, text: str) -> None:
+    target = repo / path
+    target.parent.mkdir(parents=True, exist_ok=True)
+    target.write_text(text, "utf-8")
+
+
+@pytest.fixture()
+def history(tmp_path, monkeypatch):
+    """A repository on `main` with five commits; returns (repo, {name: sha})."""
+    monkeypatch.setenv("GIT_CEILING_DIRECTORIES", str(tmp_path.parent))
+    repo = tmp_path / "study"
+    repo.mkdir()
+    git(repo, "init", "-q", "-b", "main")
+    shas = {}
+    write(repo, "wellness.dag", WELLNESS)
+    write(repo, "heat.dag", HEAT)
+    write(repo, "soil.dag", SOIL)
+    write(repo, "notes.txt", "not a diagram\n")
+    git(repo, "add", ".")
+    git(repo, "commit", "-q", "-m", "first diagrams")
+    shas["c1"] = git(repo, "rev-parse", "HEAD")
+    write(repo, "wellness.dag", WELLNESS_2)
+    git(repo, "commit", "-q", "-am", "shift work affects sick days directly")
+    shas["c2"] = git(repo, "rev-parse", "HEAD")
+    write(repo, "wellness.dag", WELLNESS_3)
+    git(repo, "commit", "-q", "-am", "age is not a confounder; adjust for shift work")
+    shas["c3"] = git(repo, "rev-parse", "HEAD")
+    (repo / "models").mkdir()
+    git(repo, "mv", "heat.dag", "models/heat.dag")
+    git(repo, "commit", "-q", "-m", "move the heat diagram")
+    shas["c4"] = git(repo, "rev-parse", "HEAD")
+    git(repo, "rm", "-q", "soil.dag")
+    write(repo, "notes.txt", "changed, still not a diagram\n")
+    git(repo, "commit", "-q", "-am", "drop the soil diagram")
+    shas["c5"] = git(repo, "rev-parse", "HEAD")
+    monkeypatch.chdir(repo)
+    return repo, shas
+
+
+def run_json(capsys, *args: str) -> dict:
+    code = main(["diff", "--format", "json", *args])
+    captured = capsys.readouterr()
+    assert code == 0, captured.err
+    return json.loads(captured.out)
+
+
+def one_file(doc: dict, path: str) -> dict:
+    (f,) = [f for f in doc["files"] if path in (f["new_path"], f["old_path"])]
+    return f
+
+
+# --- tests -----------------------------------------------------------------------------
+
+
+def test_oracle_agrees_with_the_scenario():
+    # the premise of the tests below, from the definitions
+    assert oracle_valid(G1, "enrolled", "sick_days", {"age", "fitness_base"})
+    assert not oracle_valid(G2, "enrolled", "sick_days", {"age", "fitness_base"})
+    assert oracle_valid(G3, "enrolled", "sick_days", {"fitness_base", "shift_work"})
+
+
+def test_added_arrow_makes_declared_set_insufficient(history, capsys):
+    repo, shas = history
+    doc = run_json(capsys, "--base", shas["c1"], "--head", shas["c2"])
+    assert doc["schema"] == 1
+    assert (doc["base"], doc["head"]) == (
+        f"{shas['c1']} ({shas['c1'][:7]})",
+        f"{shas['c2']} ({shas['c2'][:7]})",
+    )
+    assert [f["new_path"] for f in doc["files"]] == ["wellness.dag"]  # heat/soil untouched
+    f = one_file(doc, "wellness.dag")
+    assert f["status"] == "modified"
+    assert f["arrows_added"] == [
+        {"arrow": "shift_work -> sick_days", "source": "shift_work", "target": "sick_days",
+         "bidirected": False, "line": 5}
+    ]  # fmt: skip
+    assert f["arrows_removed"] == [] and f["variables_added"] == []
+    (a,) = f["analyses"]
+    assert a["name"] == "total_effect" and a["status"] == "changed" and a["roles_changed"] == []
+    before, after = a["before"], a["after"]
+    assert before["declared"] == after["declared"] == ["age", "fitness_base"]
+    assert before["declared_valid"] is oracle_valid(G1, "enrolled", "sick_days", {"age", "fitness_base"})
+    assert after["declared_valid"] is oracle_valid(G2, "enrolled", "sick_days", {"age", "fitness_base"})
+    assert before["declared_valid"] is True and after["declared_valid"] is False
+    assert before["minimal_sets"] == oracle_minimal_sets(G1, "enrolled", "sick_days", MEASURED)
+    assert after["minimal_sets"] == oracle_minimal_sets(G2, "enrolled", "sick_days", MEASURED)
+    assert after["minimal_sets"] == [["age", "fitness_base", "shift_work"]]
+    assert (
+        "this change makes the declared set {age, fitness_base} insufficient: the new arrow "
+        "`shift_work -> sick_days` opens `enrolled <- shift_work -> sick_days`"
+    ) in a["remarks"]
+    # the independence of shift_work and sick_days is gone (they are now adjacent)
+    removed = f["independencies"]["removed"]
+    assert [(i["a"], i["b"]) for i in removed] == [("shift_work", "sick_days")]
+    assert nx.is_d_separator(G1, {"shift_work"}, {"sick_days"}, set(removed[0]["given"]))
+    assert f["independencies"]["added"] == []
+    assert f["independencies"]["before"] == f["independencies"]["after"] + 1
+
+
+def test_removed_confounder_and_changed_roles(history, capsys):
+    repo, shas = history
+    doc = run_json(capsys, "--base", shas["c2"], "--head", shas["c3"])
+    f = one_file(doc, "wellness.dag")
+    assert [(x["arrow"], x["line"]) for x in f["arrows_removed"]] == [("age -> enrolled", 2)]
+    assert f["arrows_added"] == []
+    (a,) = f["analyses"]
+    assert a["roles_changed"] == [
+        {"role": "adjust", "before": ["age", "fitness_base"], "after": ["fitness_base", "shift_work"]}
+    ]
+    assert a["before"]["declared_valid"] is False and a["after"]["declared_valid"] is True
+    assert a["after"]["minimal_sets"] == oracle_minimal_sets(G3, "enrolled", "sick_days", MEASURED)
+    assert a["after"]["minimal_sets"] == [["fitness_base", "shift_work"]]
+    assert "the declared set changed from {age, fitness_base} to {fitness_base, shift_work}" in a["remarks"]
+    assert "this change makes the declared set {fitness_base, shift_work} valid" in a["remarks"]
+    # age and enrolled are now separable: a new implied independence
+    added = {(i["a"], i["b"]): i["given"] for i in f["independencies"]["added"]}
+    assert ("age", "enrolled") in added
+    assert nx.is_d_separator(G3, {"age"}, {"enrolled"}, set(added[("age", "enrolled")]))
+
+
+def test_declared_set_loses_a_confounder_two_files(tmp_path, capsys, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    write(tmp_path, "old.dag", WELLNESS)
+    write(tmp_path, "new.dag", WELLNESS.replace("adjust: age, fitness_base", "adjust: fitness_base"))
+    assert main(["diff", "old.dag", "new.dag"]) == 0
+    out = capsys.readouterr().out
+    assert out.splitlines()[0] == "dagward diff: old.dag -> new.dag"
+    assert (
+        "    ! this change makes the declared set {fitness_base} insufficient: "
+        "the path `enrolled <- age -> sick_days` is open"
+    ) in out.splitlines()
+    assert "    verdict: valid -> not valid" in out.splitlines()
+    assert "    declared set: {age, fitness_base} -> {fitness_base}" in out.splitlines()
+    assert not oracle_valid(G1, "enrolled", "sick_days", {"fitness_base"})
+
+
+def test_rename_and_delete(history, capsys):
+    repo, shas = history
+    doc = run_json(capsys, "--base", shas["c3"], "--head", shas["c5"])
+    by_status = {f["status"]: f for f in doc["files"]}
+    assert set(by_status) == {"renamed", "deleted"}  # notes.txt is not a diagram
+    renamed = by_status["renamed"]
+    assert (renamed["old_path"], renamed["new_path"]) == ("heat.dag", "models/heat.dag")
+    assert renamed["arrows_added"] == renamed["arrows_removed"] == []
+    deleted = by_status["deleted"]
+    assert (deleted["old_path"], deleted["new_path"]) == ("soil.dag", None)
+    assert sorted(a["arrow"] for a in deleted["arrows_removed"]) == [
+        "amendment -> soil_carbon", "rainfall -> yield", "soil_carbon -> yield"]  # fmt: skip
+    assert deleted["variables_removed"] == ["amendment", "rainfall", "soil_carbon", "yield"]
+    assert deleted["independencies"]["after"] is None
+    # the whole history: wellness modified, heat renamed, soil deleted
+    doc = run_json(capsys, "--base", shas["c1"], "--head", shas["c5"])
+    assert sorted((f["status"], f["new_path"] or f["old_path"]) for f in doc["files"]) == [
+        ("deleted", "soil.dag"), ("modified", "wellness.dag"), ("renamed", "models/heat.dag")]  # fmt: skip
+
+
+def test_broken_syntax_in_working_tree(history, capsys):
+    repo, shas = history
+    write(repo, "wellness.dag", WELLNESS_3.replace("age -> sick_days", "age -> "))
+    write(repo, "extra/new_model.dag", "canopy -> shade\n")  # untracked, so "added"
+    doc = run_json(capsys, "--base", "HEAD")
+    assert doc["head"] == "working tree"
+    f = one_file(doc, "wellness.dag")
+    assert f["old_syntax_error"] is None
+    assert f["new_syntax_error"]["line"] == 2 and f["new_syntax_error"]["column"] == 8
+    assert "expected a variable name" in f["new_syntax_error"]["message"]
+    assert f["arrows_added"] == f["arrows_removed"] == []  # nothing known about the new side
+    (a,) = f["analyses"]
+    assert a["after"] is None and a["before"]["declared_valid"] is True
+    assert a["remarks"] == ["the new version does not parse, so there is nothing to compare with"]
+    new = one_file(doc, "extra/new_model.dag")
+    assert new["status"] == "added" and new["old_path"] is None
+    assert [x["arrow"] for x in new["arrows_added"]] == ["canopy -> shade"]
+    assert main(["diff", "--base", "HEAD"]) == 0
+    text = capsys.readouterr().out.splitlines()
+    assert "  the new version does not parse:" in text
+    assert "    line 2, column 8: " + f["new_syntax_error"]["message"] in text
+
+
+def test_default_base_is_merge_base_with_main(history, capsys):
+    repo, shas = history
+    git(repo, "checkout", "-q", "-b", "feature")
+    write(repo, "wellness.dag", WELLNESS_3 + "enrolled <-> sick_days\n")
+    git(repo, "commit", "-q", "-am", "unmeasured common cause of enrolment and sick days")
+    git(repo, "checkout", "-q", "main")
+    write(repo, "other.dag", "a -> b\n")
+    git(repo, "add", "other.dag")
+    git(repo, "commit", "-q", "-m", "main moves on")
+    git(repo, "checkout", "-q", "feature")
+    doc = run_json(capsys)
+    assert doc["base"] == f"{shas['c5'][:7]} (merge base of HEAD and main)"
+    assert [f["new_path"] for f in doc["files"]] == ["wellness.dag"]  # not other.dag
+    f = doc["files"][0]
+    assert [x["arrow"] for x in f["arrows_added"]] == ["enrolled <-> sick_days"]
+    (a,) = f["analyses"]
+    assert a["after"]["identifiable"] is False and a["after"]["minimal_sets"] == []
+    assert any("no longer identifiable" in r for r in a["remarks"])
+
+
+def test_markdown_has_mermaid_with_marked_new_arrow(history, capsys):
+    repo, shas = history
+    assert main(["diff", "--format", "markdown", "--base", shas["c1"], "--head", shas["c3"]]) == 0
+    md = capsys.readouterr().out
+    assert md.startswith("## Causal diagrams in this change\n")
+    assert "### `wellness.dag` (modified)" in md
+    mermaid = md.split("```mermaid\n", 1)[1].split("```", 1)[0].splitlines()
+    assert mermaid[0] == "flowchart LR"
+    ids = {line.split("[")[0].strip(): line.split('"')[1] for line in mermaid if '["' in line}
+    names = {v: k for k, v in ids.items()}
+    new_link = f"  {names['shift_work']} ==> {names['sick_days']}"
+    assert new_link in mermaid
+    index = [line for line in mermaid if "-->" in line or "==>" in line].index(new_link)
+    assert f"  linkStyle {index} stroke:#e8590c,stroke-width:4px" in mermaid
+    assert f"  {names['age']} --> {names['sick_days']}" in mermaid
+    assert not any(f"{names['age']} --> {names['enrolled']}" in line for line in mermaid)
+    assert "Thick orange links are new in this change" in md
+    assert "Removed (not drawn): `age -> enrolled`." in md
+    assert "| verdict | valid | valid |" in md
+    assert "| declared set | {age, fitness_base} | {fitness_base, shift_work} |" in md
+
+
+def test_missing_base_revision_exits_2(history, capsys):
+    assert main(["diff", "--base", "no-such-branch"]) == 2
+    err = capsys.readouterr().err
+    assert err == "dagward: error: base revision `no-such-branch` not found in this repository\n"
+    assert main(["diff", "--head", "0000000"]) == 2
+    assert capsys.readouterr().err.count("\n") == 1
+
+
+def test_repository_without_default_branch_exits_2(tmp_path, capsys, monkeypatch):
+    monkeypatch.setenv("GIT_CEILING_DIRECTORIES", str(tmp_path.parent))
+    git(tmp_path, "init", "-q", "-b", "trunk")
+    write(tmp_path, "a.dag", "a -> b\n")
+    git(tmp_path, "add", ".")
+    git(tmp_path, "commit", "-q", "-m", "one")
+    monkeypatch.chdir(tmp_path)
+    assert main(["diff"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("dagward: error: no base revision: none of origin/HEAD, main, master")
+    assert err.count("\n") == 1
+    # with an explicit base it works
+    assert main(["diff", "--base", "HEAD", "--format", "json"]) == 0
+    assert json.loads(capsys.readouterr().out)["files"] == []
+
+
+def test_not_a_git_repository_exits_2(tmp_path, capsys, monkeypatch):
+    monkeypatch.setenv("GIT_CEILING_DIRECTORIES", str(tmp_path.parent))
+    monkeypatch.chdir(tmp_path)
+    assert main(["diff"]) == 2
+    err = capsys.readouterr().err
+    assert "is not inside a git repository" in err and err.count("\n") == 1
+    assert main(["diff", "missing.dag", "other.dag"]) == 2
+    assert capsys.readouterr().err.count("\n") == 1
+
+
+def test_cli_subprocess_exit_code(history):
+    repo, shas = history
+    env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1]))
+    done = subprocess.run(
+        [os.sys.executable, "-m", "linter", "diff", "--base", shas["c1"]],
+        cwd=repo, capture_output=True, text=True, env=env,
+    )  # fmt: skip
+    assert done.returncode == 0, done.stderr
+    assert "wellness.dag (modified)" in done.stdout
+    assert "heat.dag -> models/heat.dag (renamed)" in done.stdout
