@@ -113,7 +113,10 @@ def _state_search(
     no_enter: set[str],
     skip_edge: SkipEdge = None,
     update: FlagUpdate | None = None,
-) -> list[str] | None:
+    exhaustive: bool = False,
+    no_expand: set[str] | frozenset[str] = frozenset(),
+    tree: dict | None = None,
+):
     """Breadth-first search over (node, direction, flag) states with parent pointers.
 
     ``roots`` are ``(origin, node, direction, flag)``: the walk starts at
@@ -124,19 +127,24 @@ def _state_search(
     cost is linear in |V| + |E| times the (constant) number of flag values.
     """
     succ, pred = G._succ, G._pred
-    parent: dict[tuple[str, int, int], tuple[str, int, int] | str] = {}
+    parent: dict[tuple[str, int, int], tuple[str, int, int] | str] = {} if tree is None else tree
     queue: deque[tuple[str, int, int]] = deque()
+    found: list[list[str]] = []
     for origin, node, d, f in roots:
         state = (node, d, f)
         if state in parent:
             continue
         parent[state] = origin
         if accept(node, d, f):
-            return _walk_back(parent, state)
+            if not exhaustive:
+                return _walk_back(parent, state)
+            found.append(_walk_back(parent, state))
         queue.append(state)
     while queue:
         state = queue.popleft()
         v, d, f = state
+        if v in no_expand:
+            continue
         moves: list[tuple[str, int]] = []
         if d == UP:
             if v in zs:
@@ -157,9 +165,11 @@ def _state_search(
                 continue
             parent[nxt] = state
             if accept(w, d2, f2):
-                return _walk_back(parent, nxt)
+                if not exhaustive:
+                    return _walk_back(parent, nxt)
+                found.append(_walk_back(parent, nxt))
             queue.append(nxt)
-    return None
+    return found if exhaustive else None
 
 
 def _walk_back(parent: dict, state: tuple[str, int, int]) -> list[str]:

@@ -1,0 +1,215 @@
+"""Property tests of linter.causal against networkx and brute-force oracles.
+
+Random DAGs carry several exposures and outcomes, hidden ``<->`` parents and
+unmeasured variables.  Oracles: ``networkx.is_d_separator`` (networkx 3.6)
+and the path-enumerating definitions in test_causal_oracle.py.
+"""
+
+from __future__ import annotations
+
+from itertools import combinations
+
+import networkx as nx
+from hypothesis import HealthCheck, given, note, settings
+from hypothesis import strategies as st
+from test_causal_oracle import (
+    analysis_case,
+    blocked,
+    causal,
+    collider_reaching,
+    is_collider,
+    oracle_confounding,
+    oracle_d_separated,
+    oracle_forbidden,
+    oracle_minimal_valid_sets,
+    oracle_open_noncausal,
+    oracle_separable,
+    oracle_valid,
+    random_dag,
+)
+
+from linter.causal import (
+    adjustment_exists,
+    canonical_adjustment,
+    collider_bias_path,
+    confounding_path,
+    d_connecting_path,
+    d_separated,
+    forbidden,
+    implied_independencies,
+    is_valid_adjustment,
+    minimal_adjustment_sets,
+    minimal_separator,
+    open_noncausal_path,
+    smallest_adjustment_set,
+)
+
+FAST = settings(max_examples=300, deadline=None, suppress_health_check=list(HealthCheck))
+MANY = settings(max_examples=600, deadline=None, suppress_health_check=list(HealthCheck))
+
+
+def assert_genuine_path(G, path, X, Y):
+    """Simple, adjacent in G, from X to Y, only the first node in X."""
+    assert path[0] in X and path[-1] in Y
+    assert len(set(path)) == len(path), path
+    assert not set(path[1:]) & X, path
+    for a, b in zip(path, path[1:]):
+        assert G.has_edge(a, b) or G.has_edge(b, a), (a, b)
+
+
+@st.composite
+def dsep_query(draw, max_nodes=8, max_hidden=2):
+    G, names, measured = draw(random_dag(min_nodes=2, max_nodes=max_nodes, max_hidden=max_hidden))
+    nodes = sorted(G.nodes)
+    xs = draw(st.sets(st.sampled_from(nodes), min_size=1, max_size=2))
+    ys = draw(st.sets(st.sampled_from([v for v in nodes if v not in xs] or nodes), min_size=1, max_size=2))
+    ys -= xs
+    pool = [v for v in nodes if v not in xs | ys]
+    zs = draw(st.sets(st.sampled_from(pool), max_size=4)) if pool else set()
+    return G, xs, ys, zs
+
+
+@MANY
+@given(dsep_query(max_nodes=25, max_hidden=4))
+def test_d_separated_agrees_with_networkx(q):
+    G, xs, ys, zs = q
+    if not ys:
+        return
+    assert d_separated(G, xs, ys, zs) == nx.is_d_separator(G, xs, ys, zs)
+
+
+@MANY
+@given(dsep_query())
+def test_d_separated_agrees_with_path_definition(q):
+    G, xs, ys, zs = q
+    if not ys:
+        return
+    assert d_separated(G, xs, ys, zs) == oracle_d_separated(G, xs, ys, zs)
+
+
+@MANY
+@given(dsep_query(max_nodes=12, max_hidden=3))
+def test_witness_is_open_simple_path_exactly_when_connected(q):
+    G, xs, ys, zs = q
+    if not ys:
+        return
+    path = d_connecting_path(G, xs, ys, zs)
+    assert (path is None) == nx.is_d_separator(G, xs, ys, zs)
+    if path is not None:
+        assert_genuine_path(G, path, xs, ys)
+        assert not set(path[:-1]) & ys
+        assert not blocked(G, path, zs)
+
+
+def test_overlapping_sets_convention():
+    G = nx.DiGraph([("a", "b"), ("b", "c")])
+    assert not d_separated(G, {"a", "b"}, {"b"}, set())
+    assert d_connecting_path(G, {"a", "b"}, {"b"}, set()) == ["b"]
+    try:
+        d_separated(G, {"a"}, {"c"}, {"a"})
+    except ValueError:
+        pass
+    else:  # pragma: no cover - the convention is to refuse, like networkx
+        raise AssertionError("x in z must raise ValueError")
+
+
+@MANY
+@given(analysis_case())
+def test_is_valid_adjustment_agrees_with_definition(case):
+    G, X, Y, Z = case.G, set(case.X), set(case.Y), set(case.Z)
+    assert forbidden(G, X, Y) == oracle_forbidden(G, X, Y)
+    assert is_valid_adjustment(G, X, Y, Z) == oracle_valid(G, X, Y, Z)
+
+
+@FAST
+@given(analysis_case(max_nodes=9))
+def test_minimal_sets_smallest_and_existence_match_brute_force(case):
+    G, X, Y, measured = case.G, set(case.X), set(case.Y), set(case.measured)
+    candidates = measured - X - Y
+    expected = oracle_minimal_valid_sets(G, X, Y, candidates)
+    got = list(minimal_adjustment_sets(G, X, Y, measured))
+    assert len(got) == len(set(got))
+    assert set(got) == set(expected)
+    assert adjustment_exists(G, X, Y, measured) == bool(expected)
+    canon = canonical_adjustment(G, X, Y, measured)
+    assert is_valid_adjustment(G, X, Y, canon) == bool(expected)
+    smallest = smallest_adjustment_set(G, X, Y, measured)
+    if expected:
+        assert smallest is not None and oracle_valid(G, X, Y, set(smallest))
+        assert len(smallest) == min(len(s) for s in expected)
+        assert list(minimal_adjustment_sets(G, X, Y, measured, max_sets=1)) == got[:1]
+    else:
+        assert smallest is None
+
+
+@MANY
+@given(analysis_case())
+def test_open_noncausal_path_is_genuine_and_complete(case):
+    G, X, Y, Z = case.G, set(case.X), set(case.Y), set(case.Z)
+    path = open_noncausal_path(G, X, Y, Z)
+    expected = oracle_open_noncausal(G, X, Y, Z)
+    if not Z & oracle_forbidden(G, X, Y):
+        # Exact whenever Z holds no forbidden variable (the case that decides validity).
+        assert (path is None) == (not expected)
+    if path is not None:
+        assert_genuine_path(G, path, X, Y)
+        assert not causal(G, path) and not blocked(G, path, Z)
+
+
+@MANY
+@given(analysis_case())
+def test_confounding_path_is_genuine_and_complete(case):
+    G, X, Y, Z = case.G, set(case.X), set(case.Y), set(case.Z)
+    path = confounding_path(G, X, Y, Z)
+    assert (path is None) == (not oracle_confounding(G, X, Y, Z))
+    if path is not None:
+        assert_genuine_path(G, path, X, Y)
+        assert G.has_edge(path[1], path[0])  # an arrow into the exposure
+        assert not any(is_collider(G, path, i) for i in range(1, len(path) - 1))
+        assert not set(path) & Z
+
+
+@MANY
+@given(analysis_case())
+def test_collider_bias_path_is_genuine_and_covers_every_invalid_set(case):
+    G, X, Y, Z = case.G, set(case.X), set(case.Y), set(case.Z)
+    note(repr(case))
+    opened = oracle_open_noncausal(G, X, Y, Z)
+    found_any = False
+    for z in sorted(Z):
+        found = collider_bias_path(G, X, Y, Z, z)
+        if found is None:
+            continue
+        found_any = True
+        path, c = found
+        assert_genuine_path(G, path, X, Y)
+        assert not causal(G, path) and not blocked(G, path, Z)
+        assert c in collider_reaching(G, path, z)
+        assert path in opened
+    # The guarantee the rule catalogue's completeness check relies on: when Z
+    # has no forbidden variable and no confounding path is left open, yet an
+    # open non-causal path exists, some z in Z gets a witness (known limit:
+    # not always every z that has one).
+    if opened and not oracle_confounding(G, X, Y, Z) and not Z & oracle_forbidden(G, X, Y):
+        assert found_any
+
+
+@FAST
+@given(random_dag(min_nodes=2, max_nodes=7))
+def test_minimal_separator_and_implied_independencies(dag):
+    G, names, measured = dag
+    listed = {(a, b): s for a, b, s in implied_independencies(G, measured)}
+    assert list(listed) == sorted(listed)
+    for a, b in combinations(sorted(measured), 2):
+        adjacent = G.has_edge(a, b) or G.has_edge(b, a)
+        seps = [] if adjacent else oracle_separable(G, a, b, measured)
+        sep = minimal_separator(G, a, b, measured)
+        assert (sep is None) == (not seps)
+        assert ((a, b) in listed) == bool(seps)
+        if sep is not None:
+            assert sep <= measured - {a, b}
+            assert nx.is_d_separator(G, {a}, {b}, set(sep))
+            for k in range(len(sep)):
+                for sub in combinations(sorted(sep), k):
+                    assert not nx.is_d_separator(G, {a}, {b}, set(sub))
+            assert listed[(a, b)] == sep
