@@ -102,7 +102,8 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
     if title:
         out.append(f'<text x="{MARGIN}" y="20" font-size="15" font-weight="bold">'
                    f"{escape(title)}</text>")
-    out.append(f'<text x="{MARGIN}" y="{HEADER - 8}" font-weight="bold">implied independence</text>')
+    out.append(f'<text x="{MARGIN}" y="{HEADER - 8}" font-weight="bold">'
+               "implied independence</text>")
     out.append(f'<text x="{plot_left + PLOT_WIDTH / 2}" y="{HEADER - 8}" font-weight="bold" '
                f'text-anchor="middle">effect (95% interval)</text>')
     out.append(f'<text x="{plot_left + PLOT_WIDTH + 8}" y="{HEADER - 8}" font-weight="bold">'
