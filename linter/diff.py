@@ -345,9 +345,10 @@ def analysis_state(side: Side, name: str, max_sets: int) -> AnalysisState:
                 "path from the exposure to the outcome; adjusting blocks part of the effect"
             )
         elif after_effect:
+            verb = "is an effect" if len(after_effect) == 1 else "are effects"
             explanation = (
-                f"{_ticks(after_effect)} {'is an effect' if len(after_effect) == 1 else 'are effects'}"
-                " of a variable on a causal path from the exposure; adjusting can bias the estimate"
+                f"{_ticks(after_effect)} {verb} of a variable on a causal path from the "
+                "exposure; adjusting can bias the estimate"
             )
         else:
             path = open_noncausal_path(G, X, Y, Z)
@@ -389,9 +390,7 @@ def _independencies(side: Side) -> tuple[dict[tuple[str, str], Names] | None, st
 # === comparing two sides ================================================================
 
 
-def compare(
-    old: Side | None, new: Side | None, status: str, max_sets: int = 10
-) -> FileDiff:
+def compare(old: Side | None, new: Side | None, status: str, max_sets: int = 10) -> FileDiff:
     """Everything that changed between two versions of one file (either may be missing)."""
     old_d = old.diagram if old else None
     new_d = new.diagram if new else None
@@ -406,12 +405,8 @@ def compare(
     now_unmeasured: Names = ()
     now_measured: Names = ()
     if comparable:
-        added = tuple(
-            ArrowChange(*k, new_arrows[k]) for k in new_arrows if k not in old_arrows
-        )
-        removed = tuple(
-            ArrowChange(*k, old_arrows[k]) for k in old_arrows if k not in new_arrows
-        )
+        added = tuple(ArrowChange(*k, new_arrows[k]) for k in new_arrows if k not in old_arrows)
+        removed = tuple(ArrowChange(*k, old_arrows[k]) for k in old_arrows if k not in new_arrows)
         old_vars = set(old_d.variables) if old_d else set()
         new_vars = set(new_d.variables) if new_d else set()
         vars_added = sorted_set(new_vars - old_vars)
@@ -425,10 +420,14 @@ def compare(
     def file_problems(side: Side | None) -> dict[tuple[str, str], Problem]:
         if side is None or side.diagram is None:
             return {}
-        return {(f.rule, f.message): _problem(f) for f in side.result.findings if f.analysis is None}
+        return {
+            (f.rule, f.message): _problem(f) for f in side.result.findings if f.analysis is None
+        }
 
     old_p, new_p = file_problems(old), file_problems(new)
-    analyses = _compare_analyses(old, new, set(k for k in new_arrows if k not in old_arrows), max_sets)
+    analyses = _compare_analyses(
+        old, new, set(k for k in new_arrows if k not in old_arrows), max_sets
+    )
 
     before, note_before = _independencies(old) if old else (None, None)
     after, note_after = _independencies(new) if new else (None, None)
@@ -525,7 +524,9 @@ def _remarks(
         out.append(f"the declared set changed from {b} to {a}")
     for r in roles:
         if r.role != "adjust":
-            out.append(f"the {r.role} changed from {braces(r.before or ())} to {braces(r.after or ())}")
+            out.append(
+                f"the {r.role} changed from {braces(r.before or ())} to {braces(r.after or ())}"
+            )
     if before.checked and not after.checked:
         out.append(f"the analysis can no longer be checked ({after.note})")
         return out
@@ -570,9 +571,7 @@ def _why_invalid(state: AnalysisState, new_d: Diagram | None, new_arrows: set) -
     spelled = explanation.removeprefix("the path `").removesuffix("` is open")
     on_path = [k for k in new_arrows if _on_spelled(k, spelled)]
     if on_path:
-        arrows = ", ".join(
-            f"`{ArrowChange(*k, 0).describe()}`" for k in sorted(on_path)
-        )
+        arrows = ", ".join(f"`{ArrowChange(*k, 0).describe()}`" for k in sorted(on_path))
         word = "arrow" if len(on_path) == 1 else "arrows"
         return f"the new {word} {arrows} {'opens' if len(on_path) == 1 else 'open'} `{spelled}`"
     return explanation
@@ -586,7 +585,8 @@ def _on_spelled(key: tuple[str, str, bool], spelled: str) -> bool:
         if bidirected and op == "<->" and {a, b} == {source, target}:
             return True
         if not bidirected and (
-            (op == "->" and (a, b) == (source, target)) or (op == "<-" and (b, a) == (source, target))
+            (op == "->" and (a, b) == (source, target))
+            or (op == "<-" and (b, a) == (source, target))
         ):
             return True
     return False
@@ -610,7 +610,9 @@ def _git(args: list[str], cwd: str | Path) -> subprocess.CompletedProcess:
     try:
         return subprocess.run(["git", *args], cwd=cwd, capture_output=True, timeout=120)
     except FileNotFoundError:
-        raise UsageProblem("git is not installed; to compare two files: dagward diff OLD.dag NEW.dag") from None
+        raise UsageProblem(
+            "git is not installed; to compare two files: dagward diff OLD.dag NEW.dag"
+        ) from None
 
 
 def repository_root(cwd: str | Path) -> Path:
@@ -657,7 +659,14 @@ class Change:
     new_path: str | None
 
 
-_STATUS = {"A": "added", "D": "deleted", "M": "modified", "T": "modified", "R": "renamed", "C": "added"}
+_STATUS = {
+    "A": "added",
+    "D": "deleted",
+    "M": "modified",
+    "T": "modified",
+    "R": "renamed",
+    "C": "added",
+}
 
 
 def changed_files(
@@ -691,7 +700,10 @@ def changed_files(
             new = None
         out.append(Change(status, old, new))
     if head is None:
-        untracked = _git(["ls-files", "-z", "--others", "--exclude-standard", "--full-name", "--", *pathspecs], cwd)
+        untracked = _git(
+            ["ls-files", "-z", "--others", "--exclude-standard", "--full-name", "--", *pathspecs],
+            cwd,
+        )
         for path in untracked.stdout.decode("utf-8", errors="surrogateescape").split("\0"):
             if path:
                 out.append(Change("added", None, path))
@@ -703,7 +715,9 @@ def read_revision(root: Path, rev: str | None, path: str) -> bytes:
         return (root / path).read_bytes()
     done = _git(["show", f"{rev}:{path}"], root)
     if done.returncode != 0:
-        raise UsageProblem(f"cannot read {path} at {rev[:12]}: {done.stderr.decode(errors='replace').strip()}")
+        raise UsageProblem(
+            f"cannot read {path} at {rev[:12]}: {done.stderr.decode(errors='replace').strip()}"
+        )
     return done.stdout
 
 
@@ -731,9 +745,13 @@ def diff_revisions(
             continue
         old = new = None
         if change.old_path is not None:
-            old = read_side(read_revision(root, base_commit, change.old_path), change.old_path, settings)
+            old = read_side(
+                read_revision(root, base_commit, change.old_path), change.old_path, settings
+            )
         if change.new_path is not None:
-            new = read_side(read_revision(root, head_commit, change.new_path), change.new_path, settings)
+            new = read_side(
+                read_revision(root, head_commit, change.new_path), change.new_path, settings
+            )
         files.append(compare(old, new, change.status, max_sets))
     return DiffReport(base_label, head_label, tuple(files))
 
@@ -872,15 +890,24 @@ def _sections(f: FileDiff) -> list[tuple[str, list[str]]]:
     out: list[tuple[str, list[str]]] = []
     if f.old_error:
         e = f.old_error
-        out.append(("the old version does not parse", [f"line {e.line}, column {e.column}: {e.message}"]))
+        out.append(
+            ("the old version does not parse", [f"line {e.line}, column {e.column}: {e.message}"])
+        )
     if f.new_error:
         e = f.new_error
-        out.append(("the new version does not parse", [f"line {e.line}, column {e.column}: {e.message}"]))
+        out.append(
+            ("the new version does not parse", [f"line {e.line}, column {e.column}: {e.message}"])
+        )
     if f.arrows_added:
-        out.append(("arrows added", [f"+ `{a.describe()}` (line {a.line})" for a in f.arrows_added]))
+        out.append(
+            ("arrows added", [f"+ `{a.describe()}` (line {a.line})" for a in f.arrows_added])
+        )
     if f.arrows_removed:
         out.append(
-            ("arrows removed", [f"- `{a.describe()}` (was line {a.line})" for a in f.arrows_removed])
+            (
+                "arrows removed",
+                [f"- `{a.describe()}` (was line {a.line})" for a in f.arrows_removed],
+            )
         )
     for heading, names in (
         ("variables added", f.variables_added),
@@ -892,7 +919,10 @@ def _sections(f: FileDiff) -> list[tuple[str, list[str]]]:
             out.append((heading, [", ".join(f"`{n}`" for n in names)]))
     if f.problems_added:
         out.append(
-            ("new problems", [f"line {p.line}: {p.severity} [{p.rule}] {p.message}" for p in f.problems_added])
+            (
+                "new problems",
+                [f"line {p.line}: {p.severity} [{p.rule}] {p.message}" for p in f.problems_added],
+            )
         )
     if f.problems_removed:
         out.append(("problems fixed", [f"[{p.rule}] {p.message}" for p in f.problems_removed]))
@@ -924,7 +954,11 @@ def _analysis_rows(a: AnalysisDiff) -> list[tuple[str, str, str]]:
 
 def _independence_items(f: FileDiff) -> tuple[str, list[str]] | None:
     if f.independencies_before is None and f.independencies_after is None:
-        return None if f.independencies_note is None else ("implied independencies", [f.independencies_note])
+        return (
+            None
+            if f.independencies_note is None
+            else ("implied independencies", [f.independencies_note])
+        )
     counts = (
         f"{'-' if f.independencies_before is None else f.independencies_before} before, "
         f"{'-' if f.independencies_after is None else f.independencies_after} after"
@@ -979,7 +1013,9 @@ def render_markdown(report: DiffReport) -> str:
         out += ["", "No diagram file changed."]
     for f in report.files:
         heading = (
-            f"`{f.old_path}` → `{f.new_path}` (renamed)" if f.status == "renamed" else f"`{f.path}` ({f.status})"
+            f"`{f.old_path}` → `{f.new_path}` (renamed)"
+            if f.status == "renamed"
+            else f"`{f.path}` ({f.status})"
         )
         out += ["", f"### {heading}", ""]
         for title, items in _sections(f):
@@ -992,7 +1028,11 @@ def render_markdown(report: DiffReport) -> str:
         for a in f.analyses:
             out += ["", f"#### Analysis `{a.name}` ({a.status})", ""]
             for r in a.remarks:
-                out.append(f"> **{r[0].upper() + r[1:]}**" if "insufficient" in r else f"> {r[0].upper() + r[1:]}")
+                out.append(
+                    f"> **{r[0].upper() + r[1:]}**"
+                    if "insufficient" in r
+                    else f"> {r[0].upper() + r[1:]}"
+                )
                 out.append(">")
             if a.remarks:
                 out.pop()
@@ -1028,7 +1068,9 @@ def mermaid_section(f: FileDiff) -> list[str]:
     legend += "; dashed boxes are unmeasured variables."
     out.append(legend)
     if f.arrows_removed:
-        out.append("Removed (not drawn): " + ", ".join(f"`{a.describe()}`" for a in f.arrows_removed) + ".")
+        out.append(
+            "Removed (not drawn): " + ", ".join(f"`{a.describe()}`" for a in f.arrows_removed) + "."
+        )
     out += ["", "</details>"]
     return out
 
@@ -1056,7 +1098,9 @@ def mermaid(diagram: Diagram, added: set[tuple[str, str, bool]]) -> str:
             highlighted.append(len(seen) - 1)
         lines.append(f"  {ids[a.source.text]} {link} {ids[a.target.text]}")
     if highlighted:
-        lines.append(f"  linkStyle {','.join(map(str, highlighted))} stroke:#e8590c,stroke-width:4px")
+        lines.append(
+            f"  linkStyle {','.join(map(str, highlighted))} stroke:#e8590c,stroke-width:4px"
+        )
     unmeasured = [ids[n] for n in diagram.unmeasured if n in ids]
     if unmeasured:
         lines.append("  classDef unmeasured stroke-dasharray:5 5")

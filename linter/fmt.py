@@ -68,7 +68,7 @@ def statement_text(statement: Statement | Entry) -> str:
     """One statement (or analysis entry) in the canonical layout, without comments."""
     if isinstance(statement, ArrowStatement):
         parts = [_names(statement.groups[0])]
-        for op, group in zip(statement.operators, statement.groups[1:]):
+        for op, group in zip(statement.operators, statement.groups[1:], strict=True):
             parts.append(f"{op} {_names(group)}")
         return " ".join(parts)
     if isinstance(statement, UnmeasuredStatement):

@@ -193,8 +193,12 @@ def test_added_arrow_makes_declared_set_insufficient(history, capsys):
     assert a["name"] == "total_effect" and a["status"] == "changed" and a["roles_changed"] == []
     before, after = a["before"], a["after"]
     assert before["declared"] == after["declared"] == ["age", "fitness_base"]
-    assert before["declared_valid"] is oracle_valid(G1, "enrolled", "sick_days", {"age", "fitness_base"})
-    assert after["declared_valid"] is oracle_valid(G2, "enrolled", "sick_days", {"age", "fitness_base"})
+    assert before["declared_valid"] is oracle_valid(
+        G1, "enrolled", "sick_days", {"age", "fitness_base"}
+    )
+    assert after["declared_valid"] is oracle_valid(
+        G2, "enrolled", "sick_days", {"age", "fitness_base"}
+    )
     assert before["declared_valid"] is True and after["declared_valid"] is False
     assert before["minimal_sets"] == oracle_minimal_sets(G1, "enrolled", "sick_days", MEASURED)
     assert after["minimal_sets"] == oracle_minimal_sets(G2, "enrolled", "sick_days", MEASURED)
@@ -219,12 +223,19 @@ def test_removed_confounder_and_changed_roles(history, capsys):
     assert f["arrows_added"] == []
     (a,) = f["analyses"]
     assert a["roles_changed"] == [
-        {"role": "adjust", "before": ["age", "fitness_base"], "after": ["fitness_base", "shift_work"]}
+        {
+            "role": "adjust",
+            "before": ["age", "fitness_base"],
+            "after": ["fitness_base", "shift_work"],
+        }
     ]
     assert a["before"]["declared_valid"] is False and a["after"]["declared_valid"] is True
     assert a["after"]["minimal_sets"] == oracle_minimal_sets(G3, "enrolled", "sick_days", MEASURED)
     assert a["after"]["minimal_sets"] == [["fitness_base", "shift_work"]]
-    assert "the declared set changed from {age, fitness_base} to {fitness_base, shift_work}" in a["remarks"]
+    assert (
+        "the declared set changed from {age, fitness_base} to {fitness_base, shift_work}"
+        in a["remarks"]
+    )
     assert "this change makes the declared set {fitness_base, shift_work} valid" in a["remarks"]
     # age and enrolled are now separable: a new implied independence
     added = {(i["a"], i["b"]): i["given"] for i in f["independencies"]["added"]}
@@ -235,7 +246,9 @@ def test_removed_confounder_and_changed_roles(history, capsys):
 def test_declared_set_loses_a_confounder_two_files(tmp_path, capsys, monkeypatch):
     monkeypatch.chdir(tmp_path)
     write(tmp_path, "old.dag", WELLNESS)
-    write(tmp_path, "new.dag", WELLNESS.replace("adjust: age, fitness_base", "adjust: fitness_base"))
+    write(
+        tmp_path, "new.dag", WELLNESS.replace("adjust: age, fitness_base", "adjust: fitness_base")
+    )
     assert main(["diff", "old.dag", "new.dag"]) == 0
     out = capsys.readouterr().out
     assert out.splitlines()[0] == "dagward diff: old.dag -> new.dag"
@@ -265,7 +278,10 @@ def test_rename_and_delete(history, capsys):
     # the whole history: wellness modified, heat renamed, soil deleted
     doc = run_json(capsys, "--base", shas["c1"], "--head", shas["c5"])
     assert sorted((f["status"], f["new_path"] or f["old_path"]) for f in doc["files"]) == [
-        ("deleted", "soil.dag"), ("modified", "wellness.dag"), ("renamed", "models/heat.dag")]  # fmt: skip
+        ("deleted", "soil.dag"),
+        ("modified", "wellness.dag"),
+        ("renamed", "models/heat.dag"),
+    ]
 
 
 def test_broken_syntax_in_working_tree(history, capsys):

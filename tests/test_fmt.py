@@ -171,10 +171,12 @@ NAMES = st.sampled_from(
 )  # fmt: skip
 SPACE = st.sampled_from(["", " ", "  ", "\t", " \t "])
 SPACE1 = st.sampled_from([" ", "  ", "\t", " \t "])  # where a space is required
-_TEXT_CHAR = st.characters(blacklist_categories=("Cs", "Cc"), blacklist_characters="\u2028\u2029\x85")
-COMMENT = st.lists(
-    _TEXT_CHAR | st.sampled_from(["#", " ", "->", "\t"]), max_size=12
-).map(lambda pieces: "#" + "".join(pieces))
+_TEXT_CHAR = st.characters(
+    blacklist_categories=("Cs", "Cc"), blacklist_characters="\u2028\u2029\x85"
+)
+COMMENT = st.lists(_TEXT_CHAR | st.sampled_from(["#", " ", "->", "\t"]), max_size=12).map(
+    lambda pieces: "#" + "".join(pieces)
+)
 STRING = st.lists(
     _TEXT_CHAR.filter(lambda ch: ch not in '"\\') | st.sampled_from(['\\"', "\\\\", "#"]),
     max_size=10,
@@ -207,7 +209,9 @@ def arrow_line(draw):
 
 @st.composite
 def top_statement(draw):
-    kind = draw(st.sampled_from(["arrow", "arrow", "arrow", "unmeasured", "label", "period", "title"]))
+    kind = draw(
+        st.sampled_from(["arrow", "arrow", "arrow", "unmeasured", "label", "period", "title"])
+    )
     if kind == "arrow":
         return draw(arrow_line())
     if kind == "unmeasured":
@@ -215,7 +219,15 @@ def top_statement(draw):
     if kind == "label":
         return "label" + draw(SPACE1) + draw(NAMES) + draw(SPACE1) + draw(STRING)
     if kind == "period":
-        return "period" + draw(SPACE1) + draw(NAMES) + draw(SPACE) + ":" + draw(SPACE) + draw(name_list())
+        return (
+            "period"
+            + draw(SPACE1)
+            + draw(NAMES)
+            + draw(SPACE)
+            + ":"
+            + draw(SPACE)
+            + draw(name_list())
+        )
     return "title" + draw(SPACE1) + draw(STRING)
 
 
@@ -223,7 +235,9 @@ def top_statement(draw):
 def analysis_block(draw):
     name = draw(st.one_of(st.just(""), NAMES.map(lambda n: " " + n)))
     lines = [draw(SPACE) + "analysis" + name + draw(SPACE) + "{" + draw(trailing())]
-    keys = ["exposure", "outcome"] + draw(st.lists(st.sampled_from(["adjust", "exposure"]), max_size=2))
+    keys = ["exposure", "outcome"] + draw(
+        st.lists(st.sampled_from(["adjust", "exposure"]), max_size=2)
+    )
     keys = draw(st.permutations(keys))
     for key in keys:
         for _ in range(draw(st.integers(0, 2))):
@@ -288,7 +302,9 @@ def mutate(draw, text: str):
                 lambda m: draw(SPACE) + m.group(1) + draw(SPACE),
                 code,
             )
-        line = draw(SPACE) + code.strip() + (draw(SPACE) + hash_ + comment if hash_ else draw(SPACE))
+        line = (
+            draw(SPACE) + code.strip() + (draw(SPACE) + hash_ + comment if hash_ else draw(SPACE))
+        )
         out.append(line)
         if not code.strip() and not hash_:
             # lengthen a run of blank lines (adding one where there was none would

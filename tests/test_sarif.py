@@ -125,7 +125,10 @@ def test_rule_catalogue_in_driver(validator):
     assert cycle["defaultConfiguration"] == {"level": "error", "enabled": True}
     # the help holds the bad and the good example, as fenced code in Markdown
     assert "stress -> sleep_loss" in cycle["help"]["text"]
-    assert "**Bad:**\n\n```\nstress -> sleep_loss\nsleep_loss -> stress\n```" in cycle["help"]["markdown"]
+    assert (
+        "**Bad:**\n\n```\nstress -> sleep_loss\nsleep_loss -> stress\n```"
+        in cycle["help"]["markdown"]
+    )
     assert "# expect:" not in cycle["help"]["markdown"]
     reason = by_id["arrow-without-reason"]
     assert reason["defaultConfiguration"] == {"level": "note", "enabled": False}

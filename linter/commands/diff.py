@@ -31,10 +31,18 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
         metavar="PATH",
         help="limit the comparison to these paths; two files and no --base/--head: compare them",
     )
-    p.add_argument("--base", metavar="REV", help="the old revision (default: merge base with the default branch)")
+    p.add_argument(
+        "--base",
+        metavar="REV",
+        help="the old revision (default: merge base with the default branch)",
+    )
     p.add_argument("--head", metavar="REV", help="the new revision (default: the working tree)")
     p.add_argument(
-        "--max", type=int, default=10, metavar="N", help="minimal adjustment sets to list (default 10)"
+        "--max",
+        type=int,
+        default=10,
+        metavar="N",
+        help="minimal adjustment sets to list (default 10)",
     )
 
 

@@ -38,7 +38,7 @@ def command(f: Finding, file: str, related_files: list[str] | None = None) -> st
         props.append(("endColumn", str(max(span.end_column - 1, span.column))))
     props.append(("title", f.rule))
     message = f.message
-    for r, shown in zip(f.related, related_files or [r.file for r in f.related]):
+    for r, shown in zip(f.related, related_files or [r.file for r in f.related], strict=True):
         message += f"\n{shown}:{r.span.line}:{r.span.column}: {r.message}"
     joined = ",".join(f"{k}={escape_property(v)}" for k, v in props)
     return f"::{COMMANDS[f.severity]} {joined}::{escape_data(message)}"
@@ -50,7 +50,5 @@ def render(report: Report) -> str:
     def shown(file: str) -> str:
         return relative_to_root(file, root) or file
 
-    lines = [
-        command(f, shown(f.file), [shown(r.file) for r in f.related]) for f in report.findings
-    ]
+    lines = [command(f, shown(f.file), [shown(r.file) for r in f.related]) for f in report.findings]
     return "\n".join(lines) + ("\n" if lines else "")

@@ -35,7 +35,9 @@ from ..version import __version__
 from . import Report
 
 SARIF_VERSION = "2.1.0"
-SARIF_SCHEMA_URI = "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
+SARIF_SCHEMA_URI = (
+    "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
+)
 SRCROOT = "%SRCROOT%"
 LEVELS = {"error": "error", "warning": "warning", "info": "note"}
 
@@ -135,7 +137,10 @@ def rule_descriptors() -> tuple[list[dict], dict[str, int]]:
             "id": rule.name,
             "shortDescription": {"text": rule.summary},
             "fullDescription": {"text": prose or rule.summary},
-            "help": {"text": _EXPECT.sub("", rule.doc or rule.summary).strip(), "markdown": markdown},
+            "help": {
+                "text": _EXPECT.sub("", rule.doc or rule.summary).strip(),
+                "markdown": markdown,
+            },
             "defaultConfiguration": {
                 "level": LEVELS[rule.severity],
                 "enabled": rule.enabled_by_default,
@@ -157,7 +162,9 @@ def _region(span: Span) -> dict:
         "endLine": span.end_line,
         # SARIF wants end > start on one line; our spans always cover a character,
         # but guard against a zero-width span from a future rule.
-        "endColumn": max(span.end_column, span.column + 1) if span.end_line == span.line else span.end_column,
+        "endColumn": max(span.end_column, span.column + 1)
+        if span.end_line == span.line
+        else span.end_column,
     }
 
 
@@ -166,7 +173,11 @@ def _physical(file: str, span: Span, root: Path) -> dict:
 
 
 def _related(r: Related, i: int, root: Path) -> dict:
-    return {"id": i, "physicalLocation": _physical(r.file, r.span, root), "message": {"text": r.message}}
+    return {
+        "id": i,
+        "physicalLocation": _physical(r.file, r.span, root),
+        "message": {"text": r.message},
+    }
 
 
 def result(f: Finding, root: Path, index: dict[str, int]) -> dict:
