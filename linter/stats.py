@@ -51,6 +51,7 @@ __all__ = [
     "Table",
     "TestResult",
     "fisher_z_test",
+    "forest_plot_svg",
     "g_test_conditional",
     "holm",
     "load_table",
