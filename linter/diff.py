@@ -59,7 +59,7 @@ JSON shape (`--format json`, schema 1)::
     state = {"exposure": [...], "outcome": [...], "declared": [...] | null,
              "checked": true, "note": null | "why it was not checked",
              "declared_valid": true | false | null,
-             "problems": [{"rule", "severity", "line", "message"}],
+             "problems": [{"rule", "severity", "line", "message", "path"?}],
              "identifiable": true | false | null,
              "minimal_sets": [["age", "fitness_base"]], "truncated": false,
              "explanation": null | "why the declared set is not valid"}
@@ -126,6 +126,7 @@ class Problem:
     severity: str
     line: int
     message: str
+    path: Names | None = None  # the finding's path (names; `<->` for a hidden parent)
 
 
 @dataclass(frozen=True)
@@ -250,6 +251,23 @@ def spell_path(G, nodes: list[str]) -> tuple[str, list[tuple[str, str, bool]]]:
     return " ".join(words), links
 
 
+def spell_names(G, names: tuple[str, ...]) -> str:
+    """A finding's path (names, with `<->` where a hidden parent joins two) in arrows."""
+    words = [names[0]]
+    for i in range(1, len(names)):
+        v = names[i]
+        if v == "<->":
+            continue
+        prev = names[i - 1]
+        if prev == "<->":
+            words.append(f"<-> {v}")
+        elif G.has_edge(prev, v):
+            words.append(f"-> {v}")
+        else:
+            words.append(f"<- {v}")
+    return " ".join(words)
+
+
 def _key(source: str, target: str, bidirected: bool) -> tuple[str, str, bool]:
     if bidirected and target < source:
         source, target = target, source
@@ -290,7 +308,7 @@ def read_side(data: bytes, path: str, settings: Settings) -> Side:
 
 
 def _problem(f: Finding) -> Problem:
-    return Problem(f.rule, f.severity, f.line, f.message)
+    return Problem(f.rule, f.severity, f.line, f.message, f.path)
 
 
 _GRAPH_BREAKERS = {"cycle", "self-loop"}
@@ -335,7 +353,11 @@ def analysis_state(side: Side, name: str, max_sets: int) -> AnalysisState:
         return AnalysisState(checked=False, note=f"not checked: {e}", **base)
     truncated = len(sets) > max_sets
     explanation = None
-    if valid is False:
+    with_path = [p for p in base["problems"] if p.severity == "error" and p.path]
+    if valid is False and with_path:
+        # the path the causal rule reports is the one `check` shows: use the same
+        explanation = f"the path `{spell_names(G, with_path[0].path)}` is open"
+    elif valid is False:
         assert Z is not None
         on_causal = sorted(Z & mediators(G, X, Y))
         after_effect = sorted((Z & forbidden(G, X, Y)) - set(on_causal))
@@ -562,7 +584,7 @@ def _remarks(
 
 def _why_invalid(state: AnalysisState, new_d: Diagram | None, new_arrows: set) -> str:
     errors = [p for p in state.problems if p.severity == "error"]
-    if errors:  # the causal rules' own words, which name the path and the variable
+    if state.explanation is None and errors:  # the causal rules' own words
         return "; ".join(p.message for p in errors)
     explanation = state.explanation or "it no longer meets the adjustment criterion"
     if new_d is None or not explanation.startswith("the path "):
@@ -784,7 +806,10 @@ def diff_files(old_path: str, new_path: str, settings: Settings, max_sets: int =
 
 
 def _problem_dict(p: Problem) -> dict:
-    return {"rule": p.rule, "severity": p.severity, "line": p.line, "message": p.message}
+    out = {"rule": p.rule, "severity": p.severity, "line": p.line, "message": p.message}
+    if p.path is not None:
+        out["path"] = list(p.path)
+    return out
 
 
 def _state_dict(s: AnalysisState | None) -> dict | None:

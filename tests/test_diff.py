@@ -393,3 +393,43 @@ def test_cli_subprocess_exit_code(history):
     assert done.returncode == 0, done.stderr
     assert "wellness.dag (modified)" in done.stdout
     assert "heat.dag -> models/heat.dag (renamed)" in done.stdout
+
+
+def test_the_causal_rules_path_is_used_when_reported():
+    """When a causal rule reports the open path, the remark spells that path (the one
+    `check` shows), and the rule appears in the verdict."""
+    from dataclasses import replace
+
+    from linter.diff import Side, compare
+    from linter.engine import lint_source
+    from linter.findings import Finding
+    from linter.model import Span
+
+    new_text = WELLNESS_2 + "enrolled <-> sick_days\n"
+    old = Side("w.dag", lint_source(WELLNESS, "w.dag"))
+    result = lint_source(new_text, "w.dag")
+    rule_finding = Finding(
+        rule="open-biasing-path",
+        severity="error",
+        file="w.dag",
+        span=Span(10, 3, 10, 9),
+        message="the path enrolled <-> sick_days has no adjusted variable",
+        analysis="total_effect",
+        path=("enrolled", "<->", "sick_days"),
+    )
+    new = Side("w.dag", replace(result, findings=[*result.findings, rule_finding]))
+    f = compare(old, new, "modified")
+    (a,) = f.analyses
+    assert a.remarks[0] == (
+        "this change makes the declared set {age, fitness_base} insufficient: the new arrow "
+        "`enrolled <-> sick_days` opens `enrolled <-> sick_days`"
+    )
+    assert "now reported: open-biasing-path" in a.remarks
+    assert a.after.problems[0].path == ("enrolled", "<->", "sick_days")
+    from linter.diff import _verdict
+
+    assert _verdict(a.after) == "not valid (open-biasing-path)"
+    assert sorted(x.describe() for x in f.arrows_added) == [
+        "enrolled <-> sick_days",
+        "shift_work -> sick_days",
+    ]
