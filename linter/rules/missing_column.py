@@ -1,0 +1,107 @@
+"""missing-column: a measured variable that the analysis needs is not in the data.
+
+With `--data`, every measured variable used by an analysis (its `exposure:`,
+`outcome:` and `adjust:` names) must be a column of the data file, spelled
+exactly as in the diagram. In a file with no analysis, the variables of the
+implied independencies must be columns instead. The finding points at the
+variable's first appearance in the file and suggests close column names
+(a different case, a typo). Unmeasured variables are never expected in the
+data. Rename the column or the variable so that they match.
+
+Data::
+
+    age,shift_work,sick_days
+    30,10,4
+    41,25,7
+    52,5,9
+    35,40,6
+    47,15,8
+    29,30,3
+
+Bad::
+
+    age -> sickdays  # expect: missing-column
+    shift_work -> sickdays
+    analysis {
+      exposure: shift_work
+      outcome: sickdays
+      adjust: age
+    }
+
+Good::
+
+    age -> sick_days
+    shift_work -> sick_days
+    analysis {
+      exposure: shift_work
+      outcome: sick_days
+      adjust: age
+    }
+"""
+
+from __future__ import annotations
+
+import difflib
+from typing import Iterator
+
+from ..findings import Finding
+from ..model import Analysis
+from .base import Context, Rule, backticked
+
+
+def close_columns(name: str, columns: list[str], limit: int = 3) -> list[str]:
+    """Columns that are probably meant: same name in another case, then near spellings."""
+    same_case = [c for c in columns if c.lower() == name.lower()]
+    near = difflib.get_close_matches(name, columns, n=limit, cutoff=0.6)
+    return list(dict.fromkeys(same_case + near))[:limit]
+
+
+def _needed(ctx: Context) -> dict[str, Analysis | None]:
+    """Measured variables the data must hold, with the first analysis using each."""
+    diagram = ctx.diagram
+    needed: dict[str, Analysis | None] = {}
+    if diagram.analyses:
+        for analysis in diagram.analyses:
+            for entry in analysis.entries:
+                for n in entry.names:
+                    if n.text in diagram.measured:
+                        needed.setdefault(n.text, analysis)
+        return needed
+    from ..data import implied
+
+    for ind in implied(diagram):
+        for name in ind.columns():
+            needed.setdefault(name, None)
+    return needed
+
+
+def check(ctx: Context) -> Iterator[Finding]:
+    table = ctx.data
+    if table is None:
+        return
+    columns = list(table.columns())
+    source = getattr(ctx.data_options, "source", None) or getattr(table, "source", "the data")
+    for name, analysis in _needed(ctx).items():
+        if table.has_column(name):
+            continue
+        first = ctx.diagram.variables[name]
+        close = close_columns(name, columns)
+        hint = f"; did you mean {backticked(close)}?" if close else ""
+        used = f"analysis `{analysis.name}` uses it" if analysis else "an implied independence uses it"
+        yield ctx.finding(
+            RULE,
+            first.span,
+            f"`{name}` is not a column of {source} ({used}); rename the column or the "
+            f"variable so that they match{hint}",
+            analysis=analysis,
+        )
+
+
+RULE = Rule(
+    name="missing-column",
+    severity="error",
+    summary="A measured variable used by an analysis is not a column of the data.",
+    scope="data",
+    check=check,
+    doc=__doc__,
+)
