@@ -15,6 +15,7 @@ from . import (
     unknown_rule_in_allow,
     unknown_variable,
 )
+from . import independence_rejected, missing_column  # data rules (with --data)
 from .base import Rule
 
 STRUCTURE_RULES: tuple[Rule, ...] = (
@@ -31,7 +32,7 @@ STRUCTURE_RULES: tuple[Rule, ...] = (
     arrow_without_reason.RULE,
 )
 CAUSAL_RULES: tuple[Rule, ...] = ()
-DATA_RULES: tuple[Rule, ...] = ()
+DATA_RULES: tuple[Rule, ...] = (missing_column.RULE, independence_rejected.RULE)
 
 ALL_RULES: tuple[Rule, ...] = STRUCTURE_RULES + CAUSAL_RULES + DATA_RULES
 RULES_BY_NAME: dict[str, Rule] = {r.name: r for r in ALL_RULES}
