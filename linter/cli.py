@@ -61,7 +61,7 @@ def build_parser(command: str | None = None) -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"dagward {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name, (module_name, help_text) in COMMANDS.items():
-        if command is not None and name != command:
+        if name != command:
             # only the chosen command's module is imported
             sub.add_parser(name, help=help_text)
             continue

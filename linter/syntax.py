@@ -384,14 +384,20 @@ def _alternatives(expected: set[str]) -> str:
     return ", ".join(words[:-1]) + " or " + words[-1]
 
 
-def _previous_tokens(text: str, upto: int) -> list[Token]:
-    """Re-lex the text before the error (errors only; costs nothing on good files)."""
+def _previous_tokens(text: str, upto: int, from_line_start: bool = True) -> list[Token]:
+    """Re-lex the text before the error (errors only; costs nothing on good files).
+
+    Statements are lines, so the tokens of the error's own line are enough, except
+    when looking for an unclosed `{` (then the whole text before the error).
+    """
     lark, _ = _parser()
+    start = text.rfind("\n", 0, upto) + 1 if from_line_start else 0
+    if from_line_start and upto - start > 4096:
+        # a huge line: the last few thousand characters, cut at a space, suffice
+        start = max(start, text.rfind(" ", 0, upto - 4096) + 1)
     out = []
     try:
-        for tok in lark.lex(text):
-            if tok.start_pos is not None and tok.start_pos >= upto:
-                break
+        for tok in lark.lex(text[start:upto]):
             out.append(tok)
     except UnexpectedInput:
         pass
@@ -434,7 +440,8 @@ def _explain(text: str, e: UnexpectedInput) -> SyntaxProblem:
     prev = next((t for t in reversed(before)), None)
 
     if tok.type == "$END" and "RBRACE" in expected:
-        opening = next((t for t in reversed(before) if t.type == "LBRACE"), None)
+        whole = _previous_tokens(text, start, from_line_start=False)
+        opening = next((t for t in reversed(whole) if t.type == "LBRACE"), None)
         if opening is not None:
             return _problem(
                 text,

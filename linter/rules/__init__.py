@@ -3,17 +3,25 @@
 from __future__ import annotations
 
 from . import (
+    adjusted_descendant,
+    adjusted_mediator,
+    adjusted_unmeasured,
     arrow_against_time,
     arrow_without_reason,
+    collider_adjusted,
     cycle,
     duplicate_analysis,
     duplicate_arrow,
+    instrument_adjusted,
     isolated_variable,
+    no_causal_path,
+    open_biasing_path,
     role_conflict,
     self_loop,
     syntax_error,
     unknown_rule_in_allow,
     unknown_variable,
+    unmeasured_confounding,
 )
 from . import independence_rejected, missing_column  # data rules (with --data)
 from .base import Rule
@@ -31,7 +39,16 @@ STRUCTURE_RULES: tuple[Rule, ...] = (
     unknown_rule_in_allow.RULE,
     arrow_without_reason.RULE,
 )
-CAUSAL_RULES: tuple[Rule, ...] = ()
+CAUSAL_RULES: tuple[Rule, ...] = (
+    adjusted_unmeasured.RULE,
+    adjusted_mediator.RULE,
+    adjusted_descendant.RULE,
+    collider_adjusted.RULE,
+    open_biasing_path.RULE,
+    unmeasured_confounding.RULE,
+    instrument_adjusted.RULE,
+    no_causal_path.RULE,
+)
 DATA_RULES: tuple[Rule, ...] = (missing_column.RULE, independence_rejected.RULE)
 
 ALL_RULES: tuple[Rule, ...] = STRUCTURE_RULES + CAUSAL_RULES + DATA_RULES

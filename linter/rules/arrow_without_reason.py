@@ -7,7 +7,8 @@ reviewer can challenge it. Off by default; turn it on with
 
 Bad::
 
-    age -> sick_days  # expect: arrow-without-reason
+    # expect-next-line: arrow-without-reason
+    age -> sick_days
 
 Good::
 
@@ -23,6 +24,12 @@ from ..model import ArrowStatement
 from .base import Context, Rule
 
 
+def _what(s: ArrowStatement) -> str:
+    if len(s.arrows) == 1:
+        return f"`{s.arrows[0].describe()}` has"
+    return f"this line's {len(s.arrows)} arrows (`{s.arrows[0].describe()}`, ...) have"
+
+
 def check(ctx: Context) -> Iterator[Finding]:
     reasons = ctx.diagram.trailing_comments
     for s in ctx.diagram.statements:
@@ -34,8 +41,7 @@ def check(ctx: Context) -> Iterator[Finding]:
             yield ctx.finding(
                 RULE,
                 s.arrows[0].span if len(s.arrows) == 1 else s.span,
-                f"`{s.arrows[0].describe()}`{' and the other arrows of this line' if len(s.arrows) > 1 else ''} "
-                "has no reason: add a comment at the end of the line saying why",
+                f"{_what(s)} no reason: add a comment at the end of the line saying why",
             )
 
 

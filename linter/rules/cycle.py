@@ -37,7 +37,8 @@ def check(ctx: Context) -> Iterator[Finding]:
     for arrow in diagram.arrows:
         if not arrow.bidirected and arrow.source.text != arrow.target.text:
             first_statement.setdefault((arrow.source.text, arrow.target.text), arrow)
-    graph = diagram.directed_graph_without_hidden
+    # hidden `<->` parents have no incoming arrows, so they are never on a cycle
+    graph = diagram.graph
     for component in nx.strongly_connected_components(graph):
         if len(component) < 2:
             continue

@@ -1,0 +1,72 @@
+"""open-biasing-path: a confounding path is left open by the adjustment set.
+
+A non-causal path from exposure to outcome without colliders (a back-door path
+through a common cause, say) carries association that is not effect. The
+adjustment set must hold a variable on it. The message shows one such path and
+lists up to three minimal valid adjustment sets, the ones closest to the declared
+set first. Not reported when no measured set can be enough (`unmeasured-confounding`).
+
+Bad::
+
+    age -> enrolled, sick_days
+    enrolled -> sick_days
+    analysis {
+      exposure: enrolled
+      outcome: sick_days
+      adjust: none  # expect: open-biasing-path
+    }
+
+Good::
+
+    age -> enrolled, sick_days
+    enrolled -> sick_days
+    analysis {
+      exposure: enrolled
+      outcome: sick_days
+      adjust: age
+    }
+"""
+
+from __future__ import annotations
+
+from typing import Iterator
+
+from ..findings import Finding
+from ._causal_common import adjust_key_span, analyses_with_facts, path_related
+from .base import Context, Rule
+from .facts import format_set
+
+
+def check(ctx: Context) -> Iterator[Finding]:
+    for analysis, facts in analyses_with_facts(ctx):
+        if facts.adjust is None or not facts.identifiable:
+            continue
+        path = facts.confounding_path
+        if path is None:
+            continue
+        sets = facts.suggestions()
+        hint = (
+            "; valid adjustment sets: " + "; ".join(format_set(s) for s in sets)
+            if sets
+            else ""
+        )
+        yield ctx.finding(
+            RULE,
+            adjust_key_span(analysis),
+            f"the non-causal path {facts.spell(path)} is open: the adjustment set has no "
+            f"variable on it{hint}",
+            analysis=analysis,
+            path=facts.json_path(path),
+            related=path_related(ctx, facts, path),
+            suggested_sets=sets,
+        )
+
+
+RULE = Rule(
+    name="open-biasing-path",
+    severity="error",
+    summary="A confounding path from exposure to outcome has no variable in the adjustment set.",
+    scope="causal",
+    check=check,
+    doc=__doc__,
+)

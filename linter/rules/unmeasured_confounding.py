@@ -1,0 +1,74 @@
+"""unmeasured-confounding: no set of measured variables can be enough.
+
+Some non-causal path from exposure to outcome can only be blocked by unmeasured
+variables (or only through variables that must not be adjusted for), so the
+effect cannot be identified by covariate adjustment (van der Zander, Liskiewicz &
+Textor 2019: a valid set exists iff the canonical one is valid). The message shows
+such a path and says when Pearl's front-door criterion (Pearl 1995, "Causal
+diagrams for empirical research", Biometrika 82:669-688) holds for a measured set.
+Measure a variable on the path, or use a design that does not rely on adjustment.
+
+Bad::
+
+    unmeasured motivation
+    motivation -> enrolled, sick_days
+    enrolled -> sick_days
+    analysis {  # expect: unmeasured-confounding
+      exposure: enrolled
+      outcome: sick_days
+    }
+
+Good::
+
+    motivation -> enrolled, sick_days
+    enrolled -> sick_days
+    analysis {
+      exposure: enrolled
+      outcome: sick_days
+      adjust: motivation
+    }
+"""
+
+from __future__ import annotations
+
+from typing import Iterator
+
+from ..findings import Finding
+from ._causal_common import analyses_with_facts, path_related
+from .base import Context, Rule
+from .facts import format_set
+
+
+def check(ctx: Context) -> Iterator[Finding]:
+    for analysis, facts in analyses_with_facts(ctx):
+        if facts.identifiable:
+            continue
+        path = facts.unblockable_path
+        shown = f"; for example {facts.spell(path)} stays open" if path else ""
+        front = facts.front_door
+        door = (
+            f". The front-door criterion holds for {format_set(front)}: the effect is "
+            "identified through it instead (Pearl 1995)"
+            if front
+            else ""
+        )
+        yield ctx.finding(
+            RULE,
+            analysis.header,
+            f"no set of measured variables can block every biasing path from "
+            f"{', '.join(sorted(facts.exposure))} to {', '.join(sorted(facts.outcome))}{shown}; "
+            f"measure a variable on that path or choose another design{door}",
+            analysis=analysis,
+            path=facts.json_path(path) if path else None,
+            related=path_related(ctx, facts, path) if path else (),
+        )
+
+
+RULE = Rule(
+    name="unmeasured-confounding",
+    severity="warning",
+    summary="No valid adjustment set exists among the measured variables.",
+    scope="causal",
+    check=check,
+    doc=__doc__,
+)

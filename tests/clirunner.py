@@ -1,0 +1,35 @@
+"""Running the real command line in a subprocess (test helper)."""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+
+
+@dataclass
+class Run:
+    code: int
+    out: str
+    err: str
+
+
+def dagward(*args: str, cwd: str | Path | None = None, env: dict | None = None,
+            stdin: bytes | None = None) -> Run:  # fmt: skip
+    full_env = {**os.environ, "PYTHONPATH": str(ROOT), **(env or {})}
+    full_env.pop("DAGWARD_DEBUG", None)
+    proc = subprocess.run(
+        [sys.executable, "-m", "linter", *args],
+        cwd=cwd or ROOT,
+        env=full_env,
+        input=stdin,
+        capture_output=True,
+        timeout=600,
+    )
+    out, err = proc.stdout.decode("utf-8", "replace"), proc.stderr.decode("utf-8", "replace")
+    assert "Traceback" not in err, err
+    return Run(proc.returncode, out, err)
