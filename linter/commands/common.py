@@ -41,15 +41,36 @@ def exit_status(findings: list[Finding], fail_on: str) -> int:
     return 1 if any(SEVERITY_RANK[f.severity] >= threshold for f in findings) else 0
 
 
-def load_one(path: str, settings: Settings):
-    """Read and parse one diagram for the commands that need a clean diagram.
+def load_for_analysis(args: Namespace, settings: Settings):
+    """Lint one file for the commands that reason about its analyses.
 
-    Returns (diagram, findings); exits via UsageProblem when the file is missing.
+    Returns (FileResult, analyses to report on), or raises UsageProblem for a
+    missing file or an unknown `--analysis`. When the structure rules found an
+    error the causal algorithms cannot run: the caller prints the findings.
     """
     from ..engine import read_and_lint
     from ..errors import UsageProblem
 
-    if not os.path.isfile(path):
-        raise UsageProblem(f"no such file: {path}")
-    result = read_and_lint(path, settings)
-    return result
+    if not os.path.isfile(args.file):
+        raise UsageProblem(f"no such file: {args.file}")
+    result = read_and_lint(args.file, settings)
+    analyses = result.diagram.analyses if result.diagram is not None else []
+    wanted = getattr(args, "analysis", None)
+    if wanted is not None and result.diagram is not None:
+        analyses = [a for a in analyses if a.name == wanted]
+        if not analyses:
+            names = ", ".join(a.name for a in result.diagram.analyses) or "none"
+            raise UsageProblem(f"{args.file} has no analysis `{wanted}` (it has: {names})")
+    return result, analyses
+
+
+def print_blocking_errors(result, args: Namespace) -> int:
+    """The file has errors that stop the causal reasoning: show them, exit 1."""
+    from ..report import Report, reporter
+
+    errors = [f for f in result.findings if f.severity == "error"]
+    sys.stderr.write(
+        f"dagward: {result.file} has errors; fix them before asking about adjustment:\n"
+    )
+    sys.stderr.write(reporter("text")(Report(errors, 1, color=False)))
+    return 1
