@@ -32,7 +32,8 @@ def allow_comments(diagram: Diagram) -> list[AllowComment]:
             continue
         offset += 5
         names = []
-        for part in words[5:].split(","):
+        # the list ends at a further `#`, so a remark may follow it
+        for part in words[5:].split("#", 1)[0].split(","):
             name = part.strip()
             if name:
                 col = c.span.column + offset + part.index(name)
