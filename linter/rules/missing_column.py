@@ -46,14 +46,15 @@ from typing import Iterator
 
 from ..findings import Finding
 from ..model import Analysis
-from .base import Context, Rule, backticked
+from .base import Context, Rule
 
 
 def close_columns(name: str, columns: list[str], limit: int = 3) -> list[str]:
     """Columns that are probably meant: same name in another case, then near spellings."""
     same_case = [c for c in columns if c.lower() == name.lower()]
-    near = difflib.get_close_matches(name, columns, n=limit, cutoff=0.6)
-    return list(dict.fromkeys(same_case + near))[:limit]
+    if same_case:  # a difference of case is almost surely the answer
+        return same_case[:limit]
+    return difflib.get_close_matches(name, columns, n=limit, cutoff=0.6)
 
 
 def _needed(ctx: Context) -> dict[str, Analysis | None]:
@@ -86,7 +87,7 @@ def check(ctx: Context) -> Iterator[Finding]:
             continue
         first = ctx.diagram.variables[name]
         close = close_columns(name, columns)
-        hint = f"; did you mean {backticked(close)}?" if close else ""
+        hint = f"; did you mean {' or '.join(f'`{c}`' for c in close)}?" if close else ""
         used = f"analysis `{analysis.name}` uses it" if analysis else "an implied independence uses it"
         yield ctx.finding(
             RULE,
