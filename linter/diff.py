@@ -695,11 +695,17 @@ def changed_files(
     root: Path, base: str, head: str | None, pathspecs: list[str], cwd: str | Path
 ) -> list[Change]:
     """Changed `.dag` files between base and head (None: the working tree, untracked
-    files included), with renames found by git (`--name-status -M`)."""
-    args = ["diff", "--name-status", "-z", "-M", "--no-ext-diff", base]
+    files included), with renames found by git (`--name-status -M`).
+
+    `pathspecs` (relative to `cwd`) keep the changes whose old or new path lies
+    under one of them; git is asked about the whole tree so that a file renamed
+    into or out of those paths is still seen as a rename.
+    """
+    # --no-relative: paths from the repository root even when run from a subdirectory
+    args = ["diff", "--name-status", "-z", "-M", "--no-ext-diff", "--no-relative", base]
     if head is not None:
         args.append(head)
-    done = _git([*args, "--", *pathspecs], cwd)
+    done = _git(args, root)
     if done.returncode != 0:
         raise UsageProblem(f"git diff failed: {done.stderr.decode(errors='replace').strip()}")
     fields = done.stdout.decode("utf-8", errors="surrogateescape").split("\0")
@@ -722,14 +728,30 @@ def changed_files(
             new = None
         out.append(Change(status, old, new))
     if head is None:
-        untracked = _git(
-            ["ls-files", "-z", "--others", "--exclude-standard", "--full-name", "--", *pathspecs],
-            cwd,
-        )
+        untracked = _git(["ls-files", "-z", "--others", "--exclude-standard", "--full-name"], root)
         for path in untracked.stdout.decode("utf-8", errors="surrogateescape").split("\0"):
             if path:
                 out.append(Change("added", None, path))
-    return [c for c in out if (c.new_path or c.old_path or "").endswith(".dag")]
+    prefixes = [_root_relative(p, root, cwd) for p in pathspecs]
+
+    def wanted(path: str | None) -> bool:
+        if path is None or not path.endswith(".dag"):
+            return False
+        return not prefixes or any(
+            p == "" or path == p or path.startswith(p + "/") for p in prefixes
+        )
+
+    return [c for c in out if wanted(c.old_path) or wanted(c.new_path)]
+
+
+def _root_relative(path: str, root: Path, cwd: str | Path) -> str:
+    """A command-line path as a POSIX path from the repository root ("" for the root)."""
+    absolute = Path(os.path.abspath(os.path.join(cwd, path))).resolve()
+    try:
+        relative = absolute.relative_to(root.resolve()).as_posix()
+    except ValueError:
+        raise UsageProblem(f"{path} is outside the repository {root}") from None
+    return "" if relative == "." else relative
 
 
 def read_revision(root: Path, rev: str | None, path: str) -> bytes:

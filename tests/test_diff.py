@@ -203,6 +203,11 @@ def test_added_arrow_makes_declared_set_insufficient(history, capsys):
     assert before["minimal_sets"] == oracle_minimal_sets(G1, "enrolled", "sick_days", MEASURED)
     assert after["minimal_sets"] == oracle_minimal_sets(G2, "enrolled", "sick_days", MEASURED)
     assert after["minimal_sets"] == [["age", "fitness_base", "shift_work"]]
+    # the causal rules' own finding comes along, at the `adjust:` key (line 11)
+    (problem,) = after["problems"]
+    assert (problem["rule"], problem["line"]) == ("open-biasing-path", 11)
+    assert problem["path"] == ["enrolled", "shift_work", "sick_days"]
+    assert before["problems"] == []
     assert (
         "this change makes the declared set {age, fitness_base} insufficient: the new arrow "
         "`shift_work -> sick_days` opens `enrolled <- shift_work -> sick_days`"
@@ -256,7 +261,7 @@ def test_declared_set_loses_a_confounder_two_files(tmp_path, capsys, monkeypatch
         "    ! this change makes the declared set {fitness_base} insufficient: "
         "the path `enrolled <- age -> sick_days` is open"
     ) in out.splitlines()
-    assert "    verdict: valid -> not valid" in out.splitlines()
+    assert "    verdict: valid -> not valid (open-biasing-path)" in out.splitlines()
     assert "    declared set: {age, fitness_base} -> {fitness_base}" in out.splitlines()
     assert not oracle_valid(G1, "enrolled", "sick_days", {"fitness_base"})
 
@@ -424,12 +429,23 @@ def test_the_causal_rules_path_is_used_when_reported():
         "this change makes the declared set {age, fitness_base} insufficient: the new arrow "
         "`enrolled <-> sick_days` opens `enrolled <-> sick_days`"
     )
-    assert "now reported: open-biasing-path" in a.remarks
+    reported = [r for r in a.remarks if r.startswith("now reported: ")]
+    assert reported and "open-biasing-path" in reported[0]
     assert a.after.problems[0].path == ("enrolled", "<->", "sick_days")
     from linter.diff import _verdict
 
-    assert _verdict(a.after) == "not valid (open-biasing-path)"
+    assert _verdict(a.after).startswith("not valid (open-biasing-path")
     assert sorted(x.describe() for x in f.arrows_added) == [
         "enrolled <-> sick_days",
         "shift_work -> sick_days",
+    ]
+
+
+def test_paths_limit_the_comparison_from_a_subdirectory(history, capsys, monkeypatch):
+    repo, shas = history
+    monkeypatch.chdir(repo / "models")
+    doc = run_json(capsys, "--base", shas["c1"], "--head", shas["c5"], ".")
+    # only the file under models/, still named from the repository root
+    assert [(f["status"], f["old_path"], f["new_path"]) for f in doc["files"]] == [
+        ("renamed", "heat.dag", "models/heat.dag")
     ]
