@@ -48,8 +48,7 @@ def check(ctx: Context) -> Iterator[Finding]:
                 RULE,
                 n.span,
                 f"adjusting for the mediator `{n.text}` blocks part of the effect{shown}; "
-                "remove it from `adjust:` (or ask a different question, such as a direct effect, "
-                "which covariate adjustment alone does not answer)",
+                "remove it from `adjust:` to estimate the total effect",
                 analysis=analysis,
                 path=facts.json_path(path) if path else None,
                 related=path_related(ctx, facts, path) if path else (),
