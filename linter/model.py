@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import TYPE_CHECKING, Iterator, Literal
+from typing import TYPE_CHECKING, Iterator, Literal, NamedTuple
 
 if TYPE_CHECKING:  # networkx is imported lazily: `fmt` never needs it
     import networkx as nx
@@ -21,9 +21,12 @@ RESERVED_WORDS = frozenset(
 DEFAULT_ANALYSIS = "main"
 
 
-@dataclass(frozen=True, slots=True)
-class Span:
-    """A region of a file: 1-based lines and columns (Unicode code points), end exclusive."""
+class Span(NamedTuple):
+    """A region of a file: 1-based lines and columns (Unicode code points), end exclusive.
+
+    Span, Name, Comment and Arrow are named tuples rather than dataclasses: the
+    parser makes several per line, and tuples are several times cheaper to build.
+    """
 
     line: int
     column: int
@@ -35,16 +38,14 @@ class Span:
         return cls(line, column, line, column + max(length, 1))
 
 
-@dataclass(frozen=True, slots=True)
-class Name:
+class Name(NamedTuple):
     """One occurrence of a variable (or analysis/period) name in the file."""
 
     text: str
     span: Span
 
 
-@dataclass(frozen=True, slots=True)
-class Comment:
+class Comment(NamedTuple):
     """A `#` comment; `trailing` when it follows a statement on the same line."""
 
     text: str  # including the leading '#'
@@ -56,8 +57,7 @@ class Comment:
         return self.text[1:].strip()
 
 
-@dataclass(frozen=True, slots=True)
-class Arrow:
+class Arrow(NamedTuple):
     """One cause-effect pair. `bidirected` is `A <-> B` (a hidden common cause)."""
 
     source: Name
@@ -107,9 +107,8 @@ class PeriodStatement:
     span: Span
 
 
-@dataclass(frozen=True, slots=True)
-class ArrowStatement:
-    """`a, b -> c <-> d`: groups of names joined by arrow operators."""
+class ArrowStatement(NamedTuple):
+    """`a, b -> c <-> d`: groups of names joined by arrow operators (a tuple: see Span)."""
 
     groups: tuple[tuple[Name, ...], ...]
     operators: tuple[str, ...]

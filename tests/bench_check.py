@@ -1,0 +1,138 @@
+"""Benchmark: parsing speed, `dagward check` start-up, and a large check.
+
+Run: python tests/bench_check.py [--quick]
+Prints a table of figures and ratios against the targets; asserts nothing (the
+machine is noisy: speed goals are judged here, never in timed unit tests).
+
+Targets (issue "Foundation" and "Causal engine"):
+- parse a 100,000-line file at >= 50,000 lines/s;
+- `dagward check` of a 30-line sample within 1.5x of `python -c "import networkx, lark"`;
+- `dagward check` of a 100,000-variable diagram with ~200,000 arrows and three
+  analyses in < 10 s.
+"""
+
+from __future__ import annotations
+
+import os
+import random
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from linter.config import Settings  # noqa: E402
+from linter.engine import lint_source  # noqa: E402
+from linter.syntax import parse_source  # noqa: E402
+
+
+def hundred_thousand_lines(seed: int = 1) -> str:
+    rng = random.Random(seed)
+    lines = ['title "A large generated diagram"', "unmeasured u0, u1, u2"]
+    n = 100_000
+    for i in range(n - 10):
+        j = rng.randrange(i + 1, i + 50)
+        if i % 10 == 0:
+            lines.append(f"v{i} -> v{j}  # reason for arrow {i}")
+        elif i % 10 == 1:
+            lines.append(f"v{i}, v{i + 1} -> v{j}")
+        else:
+            lines.append(f"v{i} -> v{j}")
+    lines += ["analysis main {", "  exposure: v10", "  outcome: v99000", "  adjust: none", "}"]
+    while len(lines) < n:
+        lines.append("# padding comment")
+    return "\n".join(lines) + "\n"
+
+
+def best_of(fn, repeat: int) -> float:
+    times = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t)
+    return min(times)
+
+
+def command_time(args: list[str], repeat: int, cwd: Path) -> float:
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    times = []
+    for _ in range(repeat):
+        t = time.perf_counter()
+        subprocess.run(args, cwd=cwd, env=env, capture_output=True, check=False)
+        times.append(time.perf_counter() - t)
+    return statistics.median(times)
+
+
+def large_diagram(n_vars: int, n_arrows: int, seed: int = 3) -> str:
+    rng = random.Random(seed)
+    lines = []
+    seen = set()
+    while len(seen) < n_arrows:
+        a = rng.randrange(n_vars - 1)
+        b = min(n_vars - 1, a + 1 + int(rng.expovariate(1 / 200)))
+        if (a, b) not in seen:
+            seen.add((a, b))
+    for a, b in sorted(seen):
+        lines.append(f"v{a} -> v{b}")
+    present = {x for e in seen for x in e}
+    isolated = [f"v{i}" for i in range(n_vars) if i not in present]
+    if isolated:
+        lines.append("unmeasured " + ", ".join(isolated[:1]))
+        lines.append("period all: " + ", ".join(isolated[1:] or isolated[:1]))
+    for k, (x, y) in enumerate([(1000, 60_000), (20_000, 90_000), (50_000, 99_000)]):
+        adjust = ", ".join(f"v{x - d}" for d in (1, 2, 3))
+        lines += [f"analysis a{k} {{", f"  exposure: v{x}", f"  outcome: v{y}",
+                  f"  adjust: {adjust}", "}"]  # fmt: skip
+    return "\n".join(lines) + "\n"
+
+
+def main() -> None:
+    quick = "--quick" in sys.argv
+    rows = []
+    text = hundred_thousand_lines()
+    n_lines = text.count("\n")
+    t_parse = best_of(lambda: parse_source(text, "big.dag"), 1 if quick else 3)
+    rows.append(("parse 100,000-line file", f"{t_parse:.2f} s", f"{n_lines / t_parse:,.0f} lines/s",
+                 ">= 50,000 lines/s", f"{n_lines / t_parse / 50_000:.2f}x target"))  # fmt: skip
+    t_check = best_of(lambda: lint_source(text, "big.dag", Settings()), 1)
+    rows.append(("check the same file (all rules)", f"{t_check:.2f} s",
+                 f"{n_lines / t_check:,.0f} lines/s", "", ""))  # fmt: skip
+
+    repeat = 3 if quick else 9
+    with tempfile.TemporaryDirectory() as tmp:
+        tmpdir = Path(tmp)
+        sample = ROOT / "samples" / "wellness.dag"
+        base = command_time([sys.executable, "-c", "import networkx, lark"], repeat, tmpdir)
+        ours = command_time([sys.executable, "-m", "linter", "check", str(sample)], repeat, tmpdir)
+        rows.append(('python -c "import networkx, lark"', f"{base * 1000:.0f} ms", "", "", ""))
+        rows.append((f"dagward check {sample.name} ({sample.read_text().count(chr(10))} lines)",
+                     f"{ours * 1000:.0f} ms", f"{ours / base:.2f}x the imports", "<= 1.5x",
+                     "met" if ours / base <= 1.5 else "MISSED"))  # fmt: skip
+
+        big = large_diagram(100_000, 200_000)
+        path = tmpdir / "huge.dag"
+        path.write_text(big)
+        t = time.perf_counter()
+        run = subprocess.run([sys.executable, "-m", "linter", "check", str(path)], cwd=tmpdir,
+                             env={**os.environ, "PYTHONPATH": str(ROOT)}, capture_output=True,
+                             text=True)  # fmt: skip
+        t_big = time.perf_counter() - t
+        summary = run.stdout.strip().splitlines()[-1] if run.stdout.strip() else run.stderr[-200:]
+        rows.append(("dagward check: 100,000 variables, 200,000 arrows, 3 analyses",
+                     f"{t_big:.2f} s", summary, "< 10 s", "met" if t_big < 10 else "MISSED"))  # fmt: skip
+
+    widths = [max(len(str(r[i])) for r in rows) for i in range(5)]
+    header = ("measure", "time", "figure", "target", "ratio / verdict")
+    widths = [max(w, len(h)) for w, h in zip(widths, header)]
+    print("  ".join(h.ljust(w) for h, w in zip(header, widths)))
+    print("  ".join("-" * w for w in widths))
+    for r in rows:
+        print("  ".join(str(c).ljust(w) for c, w in zip(r, widths)))
+
+
+if __name__ == "__main__":
+    main()
