@@ -49,9 +49,7 @@ class DataOptions:
         if not (isinstance(self.min_effect, float | int) and 0.0 <= self.min_effect <= 1.0):
             raise UsageProblem(f"--min-effect must lie between 0 and 1, not {self.min_effect}")
         if self.method not in METHODS:
-            raise UsageProblem(
-                f"--method must be one of {', '.join(METHODS)}, not {self.method!r}"
-            )
+            raise UsageProblem(f"--method must be one of {', '.join(METHODS)}, not {self.method!r}")
 
 
 def load_data(path: str) -> Table:

@@ -149,7 +149,7 @@ def picture(diagram: Diagram, analysis: Analysis | None) -> Picture:
         paths, complete = _open_noncausal_paths(diagram, X, Y, Z)
         for path in paths:
             open_paths.append(_display_path(diagram, path))
-            for u, v in zip(path, path[1:]):
+            for u, v in zip(path, path[1:], strict=False):
                 if _hidden(diagram, u) or _hidden(diagram, v):
                     continue
                 open_directed.add((u, v) if G.has_edge(u, v) else (v, u))
@@ -178,7 +178,9 @@ def picture(diagram: Diagram, analysis: Analysis | None) -> Picture:
                 continue
             seen.add(key)
             edges.append(
-                EdgeStyle(a, b, bidirected=True, open_noncausal=frozenset((a, b)) in open_bidirected)
+                EdgeStyle(
+                    a, b, bidirected=True, open_noncausal=frozenset((a, b)) in open_bidirected
+                )
             )
         else:
             key = ("->", a, b)
@@ -355,7 +357,9 @@ def to_dot(pic: Picture) -> str:
             f"  subgraph {_dot_id(f'cluster_period_{i}')} {{ label=<<B>{_html(period)}</B>>; "
             f'labelloc=t; style="dashed,rounded"; color="#9a9a9a"; class="period";{same} {ids} }}'
         )
-    for i, ((_, before), (_, after)) in enumerate(zip(pic.periods, pic.periods[1:]), start=1):
+    for i, ((_, before), (_, after)) in enumerate(
+        zip(pic.periods, pic.periods[1:], strict=False), start=1
+    ):
         # An invisible, weightless gate between consecutive periods: every
         # variable of the earlier period lies left of it, every one of the
         # later period at or right of it, so the periods read left to right.

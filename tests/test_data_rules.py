@@ -92,8 +92,8 @@ def test_check_data_reports_the_rejection_at_the_analysis_header():
 
 def test_rejection_can_be_allowed_at_the_header(tmp_path):
     text = (ROOT / "samples/wellness.dag").read_text()
-    text = text.replace("analysis total_effect {",
-                        "analysis total_effect {  # dagward: allow independence-rejected")  # fmt: skip
+    allow = "  # dagward: allow independence-rejected"
+    text = text.replace("analysis total_effect {", "analysis total_effect {" + allow)
     (tmp_path / "w.dag").write_text(text)
     _, findings = _json_findings(str(tmp_path / "w.dag"), "--data", str(ROOT / EXTRA_ARROW))
     assert not [f for f in findings if f["rule"] == "independence-rejected"]

@@ -17,7 +17,6 @@ import json
 import math
 import re
 import xml.etree.ElementTree as ET
-from pathlib import Path
 
 import networkx as nx
 import numpy as np

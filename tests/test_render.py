@@ -30,6 +30,7 @@ def load_diagram(path: str):
     assert problem is None
     return diagram
 
+
 BIDIRECTED = """\
 title "Heat, shade and a hidden cause"
 label x "Shade trees planted"
@@ -100,13 +101,13 @@ def oracle_paths(diagram, analysis):
             for path in nx.all_simple_paths(skeleton, x, y):
                 if any(v in X for v in path[1:]):
                     continue  # not proper
-                forward = all(G.has_edge(u, v) for u, v in zip(path, path[1:]))
+                forward = all(G.has_edge(u, v) for u, v in zip(path, path[1:], strict=False))
                 is_open = True
                 for i in range(1, len(path) - 1):
                     collider = G.has_edge(path[i - 1], path[i]) and G.has_edge(path[i + 1], path[i])
                     if collider and path[i] not in anc_z or not collider and path[i] in Z:
                         is_open = False
-                pairs = list(zip(path, path[1:]))
+                pairs = list(zip(path, path[1:], strict=False))
                 if forward:
                     causal |= set(pairs)
                 elif is_open:
@@ -192,7 +193,9 @@ def test_other_analysis_and_the_default_note():
     run = dagward("render", "samples/wellness.dag", "--format", "dot")
     assert run.code == 0
     assert "first of 2" in run.err and "fitness_effect" in run.err
-    run = dagward("render", "samples/wellness.dag", "--format", "dot", "--analysis", "fitness_effect")
+    run = dagward(
+        "render", "samples/wellness.dag", "--format", "dot", "--analysis", "fitness_effect"
+    )
     assert run.code == 0 and run.err == ""
     nodes, _, _ = read_dot(run.out)
     assert nodes["fitness_12m"]["shape"] == "hexagon"
@@ -233,7 +236,7 @@ def test_periods_read_left_to_right_after_layout(name):
             x[parts[1]] = float(parts[2])
     diagram = load_diagram(str(file))
     spans = [[x[m.text] for m in members] for _, members in diagram.periods]
-    for before, after in zip(spans, spans[1:]):
+    for before, after in zip(spans, spans[1:], strict=False):
         assert max(before) < min(after)
 
 

@@ -91,7 +91,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="smallest |effect| that counts as a rejection (default 0.1)")  # fmt: skip
     p.add_argument("--method", choices=("pearson", "spearman"), default="pearson",
                    help="correlation for numeric columns (default pearson)")  # fmt: skip
-    p.add_argument("--plot", metavar="OUT.svg", help="write a forest plot of the effects (with --data)")
+    p.add_argument(
+        "--plot", metavar="OUT.svg", help="write a forest plot of the effects (with --data)"
+    )
     p.add_argument("--ascii", action="store_true", help="write `a indep b given c` instead of ⫫")
 
 
@@ -189,20 +191,22 @@ def _table(results, options, ascii_only: bool) -> str:
         v = verdict(r, options)
         if r.note:
             v += f" ({r.note})"
-        rows.append((
-            statement(ind.a, ind.b, ind.given, ascii_only),
-            str(r.n),
-            format_statistic(r),
-            format_p(r.p),
-            format_p(r.p_adjusted),
-            format_effect(r),
-            v,
-        ))
+        rows.append(
+            (
+                statement(ind.a, ind.b, ind.given, ascii_only),
+                str(r.n),
+                format_statistic(r),
+                format_p(r.p),
+                format_p(r.p_adjusted),
+                format_effect(r),
+                v,
+            )
+        )
     widths = [max(len(row[i]) for row in rows) for i in range(len(header) - 1)]
     lines = []
     for row in rows:
         cells = [cell.ljust(w) if i == 0 else cell.rjust(w) for i, (cell, w) in
-                 enumerate(zip(row, widths))]  # fmt: skip
+                 enumerate(zip(row, widths, strict=False))]  # fmt: skip
         lines.append("  ".join(cells + [row[-1]]).rstrip())
     return "\n".join(lines) + "\n"
 

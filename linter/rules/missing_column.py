@@ -42,7 +42,7 @@ Good::
 from __future__ import annotations
 
 import difflib
-from typing import Iterator
+from collections.abc import Iterator
 
 from ..findings import Finding
 from ..model import Analysis
@@ -88,7 +88,9 @@ def check(ctx: Context) -> Iterator[Finding]:
         first = ctx.diagram.variables[name]
         close = close_columns(name, columns)
         hint = f"; did you mean {' or '.join(f'`{c}`' for c in close)}?" if close else ""
-        used = f"analysis `{analysis.name}` uses it" if analysis else "an implied independence uses it"
+        used = (
+            f"analysis `{analysis.name}` uses it" if analysis else "an implied independence uses it"
+        )
         yield ctx.finding(
             RULE,
             first.span,
