@@ -26,6 +26,18 @@ def _block(doc: str, label: str) -> str:
     return textwrap.dedent("\n".join(block)).strip("\n") + "\n"
 
 
+def _data(doc: str) -> dict:
+    """`lint_source` keyword arguments for a data rule: the `Data::` block is a CSV table."""
+    if "\nData::\n" not in doc:
+        return {}
+    from linter.data import DataOptions, table_from_csv_text
+
+    return {
+        "table": table_from_csv_text(_block(doc, "Data"), "data.csv"),
+        "data_options": DataOptions(),
+    }
+
+
 @pytest.mark.parametrize("rule", ALL_RULES, ids=lambda r: r.name)
 def test_docstring_has_examples_that_lint(rule):
     doc = rule.doc
@@ -35,9 +47,14 @@ def test_docstring_has_examples_that_lint(rule):
     expected, _options = expectations_in(bad)
     expected_lines = sorted({line for line, name in expected if name == rule.name})
     assert expected_lines, "the bad example marks the line where the rule fires"
-    bad_found = [f for f in lint_source(bad, "bad.dag", settings).findings if f.rule == rule.name]
+    data = _data(doc)
+    bad_found = [
+        f for f in lint_source(bad, "bad.dag", settings, **data).findings if f.rule == rule.name
+    ]
     assert sorted({f.line for f in bad_found}) == expected_lines
-    good_found = [f for f in lint_source(good, "good.dag", settings).findings if f.rule == rule.name]
+    good_found = [
+        f for f in lint_source(good, "good.dag", settings, **data).findings if f.rule == rule.name
+    ]
     assert good_found == []
 
 
