@@ -110,6 +110,12 @@ def main(argv: list[str] | None = None) -> int:
 
 def run() -> None:
     """Console-script entry point."""
+    import gc
+
+    # A short-lived process whose data (the model, the graph, search states) form
+    # no reference cycles: collect cycles rarely instead of rescanning large
+    # diagrams thousands of times (see linter/gcpause.py).
+    gc.set_threshold(100_000, 50, 50)
     try:
         code = main()
         sys.stdout.flush()

@@ -286,7 +286,12 @@ class Diagram:
         import networkx as nx
 
         from .causal.graph import hidden_node_name
+        from .gcpause import collector_paused
 
+        with collector_paused():
+            return self._build_graph(nx, hidden_node_name)
+
+    def _build_graph(self, nx, hidden_node_name) -> nx.DiGraph:
         g = nx.DiGraph()
         g.add_nodes_from(self.variables)
         directed = []

@@ -9,7 +9,6 @@ names.
 
 from __future__ import annotations
 
-import gc
 import re
 from dataclasses import dataclass
 from functools import lru_cache
@@ -19,6 +18,7 @@ from pathlib import Path
 from lark import Lark, Token, Transformer
 from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
 
+from .gcpause import collector_paused
 from .model import (
     RESERVED_WORDS,
     Analysis,
@@ -254,16 +254,8 @@ def _parser() -> tuple[Lark, _Builder]:
 def _parse_statements(text: str) -> tuple[list, list[Comment]]:
     lark, builder = _parser()
     builder.comments = []
-    # The model is many small tuples that cannot form reference cycles; with the
-    # cyclic collector running, every collection rescans the growing model and a
-    # 100,000-line file parses four times slower. Pause it for the parse.
-    was_enabled = gc.isenabled()
-    gc.disable()
-    try:
+    with collector_paused():  # see linter/gcpause.py
         statements = lark.parse(text)
-    finally:
-        if was_enabled:
-            gc.enable()
     comments = sorted(builder.comments, key=lambda c: (c.span.line, c.span.column))
     return statements, comments
 

@@ -26,8 +26,11 @@ from ..causal import (
 )
 from ..model import Analysis, Arrow, Diagram
 
-# how many minimal sets to look at when suggesting the ones closest to the declared set
+# How many minimal sets to look at when suggesting the ones closest to the declared
+# set: each costs a linear pass, so fewer on very large diagrams.
 SUGGESTION_POOL = 20
+SUGGESTION_POOL_LARGE = 3
+LARGE_DIAGRAM = 5_000  # variables
 
 
 class AnalysisFacts:
@@ -75,10 +78,9 @@ class AnalysisFacts:
         """Up to SUGGESTION_POOL minimal valid sets (lazy enumeration, capped)."""
         if not self.identifiable:
             return []
+        pool = SUGGESTION_POOL if len(self.graph) < LARGE_DIAGRAM else SUGGESTION_POOL_LARGE
         return list(
-            minimal_adjustment_sets(
-                self.graph, self.exposure, self.outcome, self.measured, SUGGESTION_POOL
-            )
+            minimal_adjustment_sets(self.graph, self.exposure, self.outcome, self.measured, pool)
         )
 
     def suggestions(self, limit: int = 3) -> tuple[tuple[str, ...], ...]:
@@ -92,10 +94,23 @@ class AnalysisFacts:
 
     # -- witness paths ------------------------------------------------------------
     @cached_property
+    def declared_blocks_everything(self) -> bool:
+        """True when the declared set leaves no proper non-causal path open.
+
+        One validity test (linear) settles it for a valid set, so the per-variable
+        witness searches below are skipped for the usual, correct analysis.
+        """
+        return bool(self.adjust is not None and self.declared_valid)
+
+    @cached_property
     def confounding_path(self) -> list[str] | None:
+        if self.declared_blocks_everything:
+            return None
         return confounding_path(self.graph, self.exposure, self.outcome, self.adjust or set())
 
     def collider_path(self, z: str) -> tuple[list[str], str] | None:
+        if self.declared_blocks_everything:
+            return None
         return collider_bias_path(self.graph, self.exposure, self.outcome, self.adjust or set(), z)
 
     def is_instrument_like(self, z: str) -> bool:
