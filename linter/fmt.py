@@ -13,7 +13,10 @@ The canonical layout:
   (string literals are kept exactly as written, escapes included);
 * `analysis name {` (or `analysis {` when the name was omitted), its entries
   `key: a, b` indented by two spaces, and `}` alone on its line;
-* a comment at the end of a statement stays there, two spaces after it;
+* a comment at the end of a statement stays there, at least two spaces after
+  it; the trailing comments of consecutive lines (no blank line, no line without
+  such a comment between them, same indentation) start in one column, two
+  spaces after the longest statement of the run;
   a comment on a line of its own stays on its own line, in place (indented by
   two spaces inside an analysis block); comment text is kept as written, with
   trailing white space removed;
@@ -58,6 +61,7 @@ class _Line:
     text: str
     opens_block: bool = False
     closes_block: bool = False
+    comment: str | None = None  # a trailing comment, aligned by format_diagram
 
 
 def _names(names: tuple[Name, ...]) -> str:
@@ -116,9 +120,10 @@ def _layout(diagram: Diagram) -> list[_Line]:
             item = _Line(
                 item.source_line,
                 item.depth,
-                f"{item.text}{COMMENT_GAP}{comment.text.rstrip()}",
+                item.text,
                 item.opens_block,
                 item.closes_block,
+                comment.text.rstrip(),
             )
         out.append(item)
     return out
@@ -126,7 +131,7 @@ def _layout(diagram: Diagram) -> list[_Line]:
 
 def format_diagram(diagram: Diagram) -> str:
     """The canonical text of a parsed diagram (always ends with one newline)."""
-    rows: list[str] = []
+    rows: list[tuple[str, str | None]] = []  # (code, trailing comment); ("", None) = blank
     previous: _Line | None = None
     for item in _layout(diagram):
         if (
@@ -135,10 +140,34 @@ def format_diagram(diagram: Diagram) -> str:
             and not previous.opens_block
             and not item.closes_block
         ):
-            rows.append("")  # a run of blank lines in the source becomes one
-        rows.append(INDENT * item.depth + item.text)
+            rows.append(("", None))  # a run of blank lines in the source becomes one
+        rows.append((INDENT * item.depth + item.text, item.comment))
         previous = item
-    return "\n".join(rows) + "\n" if rows else ""
+    return "".join(f"{line}\n" for line in _aligned(rows))
+
+
+def _aligned(rows: list[tuple[str, str | None]]) -> list[str]:
+    """Put the trailing comments of each run of consecutive lines in one column."""
+    out: list[str] = []
+    i = 0
+    while i < len(rows):
+        code, comment = rows[i]
+        if comment is None:
+            out.append(code)
+            i += 1
+            continue
+        indent = len(code) - len(code.lstrip(" "))
+        j = i
+        while (
+            j < len(rows)
+            and rows[j][1] is not None
+            and len(rows[j][0]) - len(rows[j][0].lstrip(" ")) == indent
+        ):
+            j += 1
+        column = max(len(c) for c, _ in rows[i:j]) + len(COMMENT_GAP)
+        out.extend(c.ljust(column) + t for c, t in rows[i:j])  # type: ignore[operator]
+        i = j
+    return out
 
 
 def format_source(data: bytes | str, path: str) -> tuple[str | None, SyntaxProblem | None]:

@@ -29,3 +29,8 @@ def adjust_key_span(analysis: Analysis) -> Span:
 
 def path_related(ctx: Context, facts, path: list[str]):
     return tuple(ctx.related(a.span, f"arrow {a.describe()}") for a in facts.arrows_on(path))
+
+
+def format_set(names) -> str:
+    names = sorted(names)
+    return "{" + ", ".join(names) + "}" if names else "{} (no adjustment)"

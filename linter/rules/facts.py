@@ -207,8 +207,3 @@ def spell_path(graph, path: list[str]) -> str:
         parts.append(f" -> {b}" if b in succ[a] else f" <- {b}")
         i += 1
     return "".join(parts)
-
-
-def format_set(names) -> str:
-    names = sorted(names)
-    return "{" + ", ".join(names) + "}" if names else "{} (no adjustment)"

@@ -32,9 +32,8 @@ from __future__ import annotations
 from typing import Iterator
 
 from ..findings import Finding
-from ._causal_common import adjust_key_span, analyses_with_facts, path_related
+from ._causal_common import format_set, adjust_key_span, analyses_with_facts, path_related
 from .base import Context, Rule
-from .facts import format_set
 
 
 def check(ctx: Context) -> Iterator[Finding]:

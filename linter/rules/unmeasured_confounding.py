@@ -34,9 +34,8 @@ from __future__ import annotations
 from typing import Iterator
 
 from ..findings import Finding
-from ._causal_common import analyses_with_facts, path_related
+from ._causal_common import format_set, analyses_with_facts, path_related
 from .base import Context, Rule
-from .facts import format_set
 
 
 def check(ctx: Context) -> Iterator[Finding]:
