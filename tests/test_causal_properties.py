@@ -44,8 +44,8 @@ from linter.causal import (
     smallest_adjustment_set,
 )
 
-FAST = settings(max_examples=300, deadline=None, suppress_health_check=list(HealthCheck))
-MANY = settings(max_examples=600, deadline=None, suppress_health_check=list(HealthCheck))
+FAST = settings(max_examples=200, deadline=None, suppress_health_check=list(HealthCheck))
+MANY = settings(max_examples=400, deadline=None, suppress_health_check=list(HealthCheck))
 
 
 def assert_genuine_path(G, path, X, Y):
