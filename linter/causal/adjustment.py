@@ -24,6 +24,7 @@ A set that overlaps X or Y is never valid.  X and Y must be disjoint
 
 from __future__ import annotations
 
+import weakref
 from collections.abc import Iterable
 
 import networkx as nx
@@ -50,15 +51,33 @@ def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str],
     return X, Y
 
 
+# cn(X, Y) is needed by almost every question about an analysis (validity,
+# forbidden set, witnesses, instruments), so it is kept per graph. Graphs are
+# held weakly; the node and edge counts guard against a graph edited in place
+# (edit a copy instead, as networkx recommends, to be safe).
+_CN_CACHE: "weakref.WeakKeyDictionary[nx.DiGraph, dict]" = weakref.WeakKeyDictionary()
+
+
 def proper_causal_nodes(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:
     """cn(X, Y): variables outside X on a proper causal path from X to Y.
 
     A node w is on such a path iff it is reachable from X along arrows
     without passing through X again and it reaches Y along arrows without
     passing through X; in a DAG the two directed pieces join into a simple
-    path.  Linear time.
+    path.  Linear time (and computed once per graph and question).
     """
     X, Y = _roles(G, X, Y)
+    key = (frozenset(X), frozenset(Y), G.number_of_nodes(), G.number_of_edges())
+    per_graph = _CN_CACHE.setdefault(G, {})
+    cached = per_graph.get(key)
+    if cached is None:
+        if len(per_graph) > 64:
+            per_graph.clear()
+        cached = per_graph[key] = frozenset(_proper_causal_nodes(G, X, Y))
+    return set(cached)
+
+
+def _proper_causal_nodes(G: nx.DiGraph, X: set[str], Y: set[str]) -> set[str]:
     succ, pred = G._succ, G._pred
     down: set[str] = set()
     stack = [c for x in X for c in succ[x] if c not in X]
