@@ -73,6 +73,19 @@ class CheckedDiagram:
             raise ValueError(f"not variables of {self.diagram.path}: {', '.join(unknown)}")
 
 
+# Together these decide whether a declared set is valid (rules.md, completeness).
+VALIDITY_RULES = frozenset(
+    {
+        "adjusted-unmeasured",
+        "adjusted-mediator",
+        "adjusted-descendant",
+        "collider-adjusted",
+        "open-biasing-path",
+        "unmeasured-confounding",
+    }
+)
+
+
 def load_diagram(path: str | os.PathLike, settings: Settings | None = None) -> CheckedDiagram:
     """Parse a `.dag` file; raise `DiagramError` (with the findings) if it has errors."""
     file = os.fspath(path)
@@ -99,9 +112,11 @@ def check_covariates(
 ) -> list[Finding]:
     """Findings for one analysis as if its `adjust:` line listed `covariates`.
 
-    Returns the findings of the causal rules (and any error of the file itself);
-    an empty list means the covariates form a valid adjustment set under the
-    diagram. Raises DiagramError when the file itself has errors.
+    Returns the findings about that analysis, warnings included (an
+    instrument-like covariate, say). The covariates form a valid adjustment set
+    under the diagram exactly when none of the findings comes from the rules
+    in `VALIDITY_RULES`; an empty list means valid and nothing to warn about.
+    Raises DiagramError when the file itself has errors.
     """
     checked = load_diagram(path, settings)
     diagram = checked.diagram

@@ -84,10 +84,17 @@ def main(argv: list[str] | None = None) -> int:
         parser.print_help(sys.stderr if argv else sys.stdout)
         return 2 if argv else 0
     args = parser.parse_args(argv)
-    from .errors import UsageProblem
+    from .errors import DiagramHasErrors, UsageProblem
 
     try:
         return args.run(args)
+    except DiagramHasErrors as e:
+        from .report import Report, reporter
+
+        errors = [f for f in e.result.findings if f.severity == "error"]
+        sys.stderr.write(f"dagward: {e.result.file} has errors; fix them first:\n")
+        sys.stderr.write(reporter("text")(Report(errors, 1)))
+        return 1
     except UsageProblem as e:
         sys.stderr.write(f"dagward: error: {e}\n")
         return 2

@@ -211,6 +211,6 @@ def test_missing_column_and_bad_data(tmp_path):
     assert run.code == 2 and "--alpha" in run.err
 
 
-def test_broken_diagram_is_a_usage_problem():
+def test_broken_diagram_prints_its_errors_and_exits_1():
     run = dagward("independencies", "samples/broken/cycle.dag")
-    assert run.code == 2 and "samples/broken/cycle.dag:" in run.err
+    assert run.code == 1 and "samples/broken/cycle.dag:4:1: error [cycle]" in run.err

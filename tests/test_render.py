@@ -377,7 +377,8 @@ def test_usage_problems(tmp_path):
     assert dagward("render", "samples/wellness.dag").code == 2
     run = dagward("render", "samples/wellness.dag", "-o", str(tmp_path / "x.jpg"))
     assert run.code == 2 and ".svg, .png, .dot or .mmd" in run.err
+    # a diagram with errors: the errors are printed and the exit status is 1
     run = dagward("render", "samples/broken/cycle.dag", "-o", str(tmp_path / "x.dot"))
-    assert run.code == 2 and "samples/broken/cycle.dag:" in run.err
+    assert run.code == 1 and "samples/broken/cycle.dag:4:1: error [cycle]" in run.err
     assert not (tmp_path / "x.dot").exists()
     assert dagward("render", str(tmp_path / "missing.dag"), "-o", str(tmp_path / "x.dot")).code == 2

@@ -11,7 +11,7 @@ import argparse
 import json
 
 from ..report.json_report import SCHEMA_VERSION, tool
-from .common import emit, load_for_analysis, print_blocking_errors, settings_from
+from .common import emit, load_for_analysis, settings_from
 
 HELP = (
     "For each analysis: whether the declared adjustment set is valid, whether any valid "
@@ -102,8 +102,6 @@ def run(args: argparse.Namespace) -> int:
         raise UsageProblem("--max must be at least 1")
     settings = settings_from(args)
     result, analyses = load_for_analysis(args, settings)
-    if not result.causal_ran:
-        return print_blocking_errors(result, args)
     reports = [report_for(result.diagram, a, args.max) for a in analyses]
     if args.format == "json":
         doc = {"tool": tool(), "schema": SCHEMA_VERSION, "file": args.file, "analyses": reports}

@@ -41,36 +41,34 @@ def exit_status(findings: list[Finding], fail_on: str) -> int:
     return 1 if any(SEVERITY_RANK[f.severity] >= threshold for f in findings) else 0
 
 
-def load_for_analysis(args: Namespace, settings: Settings):
-    """Lint one file for the commands that reason about its analyses.
+def load_clean(path: str, settings: Settings):
+    """Read and lint one diagram for a command that reasons about it.
 
-    Returns (FileResult, analyses to report on), or raises UsageProblem for a
-    missing file or an unknown `--analysis`. When the structure rules found an
-    error the causal algorithms cannot run: the caller prints the findings.
+    Returns the FileResult; raises UsageProblem when the file is missing and
+    DiagramHasErrors (exit 1, errors printed) when structure errors stop the
+    causal reasoning.
     """
     from ..engine import read_and_lint
+    from ..errors import DiagramHasErrors, UsageProblem
+
+    if not os.path.isfile(path):
+        raise UsageProblem(f"no such file: {path}")
+    result = read_and_lint(path, settings)
+    if result.diagram is None or not result.causal_ran:
+        raise DiagramHasErrors(result)
+    return result
+
+
+def load_for_analysis(args: Namespace, settings: Settings):
+    """`load_clean`, then the analyses to report on (`--analysis`, or all)."""
     from ..errors import UsageProblem
 
-    if not os.path.isfile(args.file):
-        raise UsageProblem(f"no such file: {args.file}")
-    result = read_and_lint(args.file, settings)
-    analyses = result.diagram.analyses if result.diagram is not None else []
+    result = load_clean(args.file, settings)
+    analyses = result.diagram.analyses
     wanted = getattr(args, "analysis", None)
-    if wanted is not None and result.diagram is not None:
+    if wanted is not None:
         analyses = [a for a in analyses if a.name == wanted]
         if not analyses:
             names = ", ".join(a.name for a in result.diagram.analyses) or "none"
             raise UsageProblem(f"{args.file} has no analysis `{wanted}` (it has: {names})")
     return result, analyses
-
-
-def print_blocking_errors(result, args: Namespace) -> int:
-    """The file has errors that stop the causal reasoning: show them, exit 1."""
-    from ..report import Report, reporter
-
-    errors = [f for f in result.findings if f.severity == "error"]
-    sys.stderr.write(
-        f"dagward: {result.file} has errors; fix them before asking about adjustment:\n"
-    )
-    sys.stderr.write(reporter("text")(Report(errors, 1, color=False)))
-    return 1

@@ -50,7 +50,7 @@ import sys
 
 from ..errors import UsageProblem
 from ..version import __version__
-from .common import emit, settings_from
+from .common import emit, load_clean, settings_from
 
 HELP = (
     "List the conditional independencies among measured variables that the diagram "
@@ -60,26 +60,6 @@ HELP = (
 FORMATS = ("text", "json")
 
 SIGN = "\u2aeb"
-
-
-def load_clean(path: str, settings):
-    """Read and lint one diagram; UsageProblem when it is missing or has blocking errors.
-
-    (Kept here rather than in `common` so that this command owns its rules for a
-    drawable/testable diagram.)
-    """
-    import os
-
-    from ..engine import read_and_lint
-
-    if not os.path.isfile(path):
-        raise UsageProblem(f"no such file: {path}")
-    result = read_and_lint(path, settings)
-    if result.diagram is None or not result.causal_ran:
-        first = next((f for f in result.findings if f.severity == "error"), None)
-        why = f"{first.file}:{first.line}:{first.column}: {first.message}" if first else ""
-        raise UsageProblem(f"{path} has errors ({why}); run `dagward check` for all of them")
-    return result
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:

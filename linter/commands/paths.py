@@ -10,7 +10,7 @@ import argparse
 import json
 
 from ..report.json_report import SCHEMA_VERSION, tool
-from .common import emit, load_for_analysis, print_blocking_errors, settings_from
+from .common import emit, load_for_analysis, settings_from
 
 HELP = (
     "List the paths between the exposure and the outcome of each analysis, each marked "
@@ -94,8 +94,6 @@ def run(args: argparse.Namespace) -> int:
         raise UsageProblem("--limit must be at least 1")
     settings = settings_from(args)
     result, analyses = load_for_analysis(args, settings)
-    if not result.causal_ran:
-        return print_blocking_errors(result, args)
     given = None
     if args.given is not None:
         given = {n.strip() for n in args.given.split(",") if n.strip()}

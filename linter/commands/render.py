@@ -13,7 +13,7 @@ import argparse
 import sys
 
 from ..errors import UsageProblem
-from .common import settings_from
+from .common import load_clean, settings_from
 
 HELP = (
     "Draw a diagram: roles by shape and outline, adjusted variables shaded, causal paths "
@@ -21,26 +21,6 @@ HELP = (
     "Writes .dot and .mmd (Mermaid) itself; .svg and .png need Graphviz's `dot`."
 )
 FORMATS = ("auto", "dot", "mmd", "svg", "png")
-
-
-def load_clean(path: str, settings):
-    """Read and lint one diagram; UsageProblem when it is missing or has blocking errors.
-
-    (Kept here rather than in `common` so that this command owns its rules for a
-    drawable/testable diagram.)
-    """
-    import os
-
-    from ..engine import read_and_lint
-
-    if not os.path.isfile(path):
-        raise UsageProblem(f"no such file: {path}")
-    result = read_and_lint(path, settings)
-    if result.diagram is None or not result.causal_ran:
-        first = next((f for f in result.findings if f.severity == "error"), None)
-        why = f"{first.file}:{first.line}:{first.column}: {first.message}" if first else ""
-        raise UsageProblem(f"{path} has errors ({why}); run `dagward check` for all of them")
-    return result
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
