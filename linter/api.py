@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import os
+from collections.abc import Iterable
 from dataclasses import dataclass, replace
-from typing import Iterable
 
 from .config import Settings
 from .engine import lint_diagram, lint_source

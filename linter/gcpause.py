@@ -10,8 +10,8 @@ as usual; only the cycle detector waits.
 from __future__ import annotations
 
 import gc
+from collections.abc import Iterator
 from contextlib import contextmanager
-from typing import Iterator
 
 
 @contextmanager

@@ -6,9 +6,10 @@ rules, reporters, formatter and renderer only read it. Nothing here does I/O.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import TYPE_CHECKING, Iterator, Literal, NamedTuple
+from typing import TYPE_CHECKING, Literal, NamedTuple
 
 if TYPE_CHECKING:  # networkx is imported lazily: `fmt` never needs it
     import networkx as nx

@@ -16,10 +16,11 @@ from importlib import resources
 from pathlib import Path
 
 from lark import Lark, Token, Transformer
-from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedToken
 
 from .gcpause import collector_paused
 from .model import (
+    DEFAULT_ANALYSIS,
     RESERVED_WORDS,
     Analysis,
     Arrow,
@@ -33,7 +34,6 @@ from .model import (
     Span,
     TitleStatement,
     UnmeasuredStatement,
-    DEFAULT_ANALYSIS,
 )
 
 

@@ -140,11 +140,11 @@ def main() -> None:
 
     widths = [max(len(str(r[i])) for r in rows) for i in range(5)]
     header = ("measure", "time", "figure", "target", "ratio / verdict")
-    widths = [max(w, len(h)) for w, h in zip(widths, header)]
-    print("  ".join(h.ljust(w) for h, w in zip(header, widths)))
+    widths = [max(w, len(h)) for w, h in zip(widths, header, strict=False)]
+    print("  ".join(h.ljust(w) for h, w in zip(header, widths, strict=False)))
     print("  ".join("-" * w for w in widths))
     for r in rows:
-        print("  ".join(str(c).ljust(w) for c, w in zip(r, widths)))
+        print("  ".join(str(c).ljust(w) for c, w in zip(r, widths, strict=False)))
 
 
 if __name__ == "__main__":

@@ -53,7 +53,7 @@ def assert_genuine_path(G, path, X, Y):
     assert path[0] in X and path[-1] in Y
     assert len(set(path)) == len(path), path
     assert not set(path[1:]) & X, path
-    for a, b in zip(path, path[1:]):
+    for a, b in zip(path, path[1:], strict=False):
         assert G.has_edge(a, b) or G.has_edge(b, a), (a, b)
 
 

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import random
 import sys
-from pathlib import Path
 
 from clirunner import ROOT, dagward
 from hypothesis import HealthCheck, given, settings

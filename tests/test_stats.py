@@ -34,8 +34,10 @@ from linter.stats import (
     load_table,
     partial_correlation,
     simulate_linear_gaussian,
-    test_independencies as run_tests,  # the library's name starts with test_
     write_atomic,
+)
+from linter.stats import (
+    test_independencies as run_tests,  # the library's name starts with test_
 )
 
 ROOT = Path(__file__).resolve().parent.parent

@@ -33,8 +33,8 @@ from .dsep import (
     DOWN,
     UP,
     _check_sets,
-    _walk_back,
     _state_search,
+    _walk_back,
     ancestors_cut,
     d_separated_cut,
     path_is_causal,
@@ -55,7 +55,7 @@ def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str],
 # forbidden set, witnesses, instruments), so it is kept per graph. Graphs are
 # held weakly; the node and edge counts guard against a graph edited in place
 # (edit a copy instead, as networkx recommends, to be safe).
-_CN_CACHE: "weakref.WeakKeyDictionary[nx.DiGraph, dict]" = weakref.WeakKeyDictionary()
+_CN_CACHE: weakref.WeakKeyDictionary[nx.DiGraph, dict] = weakref.WeakKeyDictionary()
 
 
 def proper_causal_nodes(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:

@@ -95,7 +95,7 @@ def describe_path(G: nx.DiGraph, path: list[str], X: Iterable[str], Z: Iterable[
     """
     _as_set(G, X)
     Z = _as_set(G, Z)
-    for a, b in zip(path, path[1:]):
+    for a, b in zip(path, path[1:], strict=False):
         if not (b_in(G, a, b) or b_in(G, b, a)):
             raise ValueError(f"{a!r} and {b!r} are not adjacent")
     blocking: list[BlockingNode] = []

@@ -7,8 +7,8 @@ A reporter is a module with `render(report: Report) -> str`; `REPORTERS` maps a
 from __future__ import annotations
 
 import importlib
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 from ..findings import Finding
 

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from . import (
+from . import (  # data rules (with --data)
     adjusted_descendant,
     adjusted_mediator,
     adjusted_unmeasured,
@@ -12,8 +12,10 @@ from . import (
     cycle,
     duplicate_analysis,
     duplicate_arrow,
+    independence_rejected,
     instrument_adjusted,
     isolated_variable,
+    missing_column,
     no_causal_path,
     open_biasing_path,
     role_conflict,
@@ -23,7 +25,6 @@ from . import (
     unknown_variable,
     unmeasured_confounding,
 )
-from . import independence_rejected, missing_column  # data rules (with --data)
 from .base import Rule
 
 STRUCTURE_RULES: tuple[Rule, ...] = (

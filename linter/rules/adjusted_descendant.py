@@ -28,7 +28,7 @@ Good::
 
 from __future__ import annotations
 
-from typing import Iterator
+from collections.abc import Iterator
 
 from ..findings import Finding
 from ._causal_common import adjusted_names, analyses_with_facts, path_related

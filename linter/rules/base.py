@@ -8,8 +8,9 @@ explicitly; nothing is discovered by name tricks.
 
 from __future__ import annotations
 
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any, Callable, Iterable, Literal
+from typing import TYPE_CHECKING, Any, Literal
 
 from ..findings import Finding, Related, Severity
 from ..model import Analysis, Diagram, Span
@@ -26,7 +27,7 @@ class Rule:
     severity: Severity
     summary: str
     scope: Scope
-    check: Callable[["Context"], Iterable[Finding]]
+    check: Callable[[Context], Iterable[Finding]]
     doc: str
     enabled_by_default: bool = True
 
@@ -39,7 +40,7 @@ class Context:
     file: str  # the path as shown to the user
     data: Any = None  # a loaded data table, for the data rules (`--data`)
     data_options: Any = None
-    _facts: dict[str, "AnalysisFacts"] | None = None
+    _facts: dict[str, AnalysisFacts] | None = None
 
     def finding(
         self,
@@ -67,7 +68,7 @@ class Context:
     def related(self, span: Span, message: str) -> Related:
         return Related(self.file, span, message)
 
-    def facts(self, analysis: Analysis) -> "AnalysisFacts":
+    def facts(self, analysis: Analysis) -> AnalysisFacts:
         """Causal facts about one analysis, computed once and shared by the rules."""
         from .facts import AnalysisFacts
 

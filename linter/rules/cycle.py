@@ -18,7 +18,7 @@ Good::
 from __future__ import annotations
 
 from collections import deque
-from typing import Iterator
+from collections.abc import Iterator
 
 from ..findings import Finding
 from ..model import Arrow

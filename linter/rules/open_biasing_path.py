@@ -29,10 +29,10 @@ Good::
 
 from __future__ import annotations
 
-from typing import Iterator
+from collections.abc import Iterator
 
 from ..findings import Finding
-from ._causal_common import format_set, adjust_key_span, analyses_with_facts, path_related
+from ._causal_common import adjust_key_span, analyses_with_facts, format_set, path_related
 from .base import Context, Rule
 
 

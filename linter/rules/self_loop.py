@@ -14,7 +14,7 @@ Good::
 
 from __future__ import annotations
 
-from typing import Iterator
+from collections.abc import Iterator
 
 from ..findings import Finding
 from .base import Context, Rule

@@ -26,7 +26,7 @@ Good::
 from __future__ import annotations
 
 import difflib
-from typing import Iterator
+from collections.abc import Iterator
 
 from ..findings import Finding
 from ..model import LabelStatement
