@@ -3,7 +3,7 @@ then settings (enable/disable/severity) and `# dagward: allow` comments."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 from .config import Settings
@@ -27,7 +27,6 @@ class FileResult:
     findings: list[Finding]
     diagram: Diagram | None = None
     causal_ran: bool = False
-    extra: dict[str, Any] = field(default_factory=dict)
 
 
 def lint_source(
