@@ -116,6 +116,7 @@ def _state_search(
     exhaustive: bool = False,
     no_expand: set[str] | frozenset[str] = frozenset(),
     tree: dict | None = None,
+    take: Callable[[list[str]], object] | None = None,
 ):
     """Breadth-first search over (node, direction, flag) states with parent pointers.
 
@@ -125,6 +126,12 @@ def _state_search(
     walk (node list, possibly with repeated nodes) ending at the first state
     for which ``accept`` holds, or None.  Each state is expanded once, so the
     cost is linear in |V| + |E| times the (constant) number of flag values.
+
+    With ``exhaustive`` every accepting walk is collected, in search order.
+    With ``take`` as well, each accepting walk is handed to ``take`` as soon
+    as it is found and the first result that is not None is returned (None
+    when there is none): the same answer as scanning the exhaustive list in
+    order, without finishing the search once a walk is taken.
     """
     succ, pred = G._succ, G._pred
     parent: dict[tuple[str, int, int], tuple[str, int, int] | str] = {} if tree is None else tree
@@ -138,7 +145,12 @@ def _state_search(
         if accept(node, d, f):
             if not exhaustive:
                 return _walk_back(parent, state)
-            found.append(_walk_back(parent, state))
+            if take is not None:
+                result = take(_walk_back(parent, state))
+                if result is not None:
+                    return result
+            else:
+                found.append(_walk_back(parent, state))
         queue.append(state)
     while queue:
         state = queue.popleft()
@@ -167,9 +179,16 @@ def _state_search(
             if accept(w, d2, f2):
                 if not exhaustive:
                     return _walk_back(parent, nxt)
-                found.append(_walk_back(parent, nxt))
+                if take is not None:
+                    result = take(_walk_back(parent, nxt))
+                    if result is not None:
+                        return result
+                else:
+                    found.append(_walk_back(parent, nxt))
             queue.append(nxt)
-    return found if exhaustive else None
+    if exhaustive and take is None:
+        return found
+    return None
 
 
 def _walk_back(parent: dict, state: tuple[str, int, int]) -> list[str]:

@@ -13,7 +13,7 @@ from functools import cached_property
 from ..causal import (
     adjustment_exists,
     canonical_adjustment,
-    collider_bias_path,
+    collider_bias_paths,
     confounding_path,
     forbidden,
     front_door_set,
@@ -111,7 +111,14 @@ class AnalysisFacts:
     def collider_path(self, z: str) -> tuple[list[str], str] | None:
         if self.declared_blocks_everything:
             return None
-        return collider_bias_path(self.graph, self.exposure, self.outcome, self.adjust or set(), z)
+        return self.collider_paths[z]
+
+    @cached_property
+    def collider_paths(self) -> dict[str, tuple[list[str], str] | None]:
+        """collider_bias_path for every adjusted variable at once: the searches that
+        do not depend on the variable run once per analysis, not once per variable."""
+        adjust = self.adjust or set()
+        return collider_bias_paths(self.graph, self.exposure, self.outcome, adjust, sorted(adjust))
 
     def is_instrument_like(self, z: str) -> bool:
         return instrument_like(self.graph, self.exposure, self.outcome, self.adjust or set(), z)
