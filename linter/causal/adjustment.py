@@ -31,6 +31,7 @@ import networkx as nx
 
 from .dsep import (
     DOWN,
+    ArrowCut,
     UP,
     _check_sets,
     _state_search,
@@ -139,7 +140,7 @@ def proper_backdoor_skip(X: set[str], cn: set[str]):
     The first arrow of a proper causal path is exactly such an arrow, and
     every such arrow starts one; a predicate avoids copying G.
     """
-    return lambda u, v: u in X and v in cn
+    return ArrowCut(X, cn)
 
 
 def proper_backdoor_graph(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> nx.DiGraph:
@@ -450,7 +451,7 @@ def instrument_like(
     rest = Z - {z}
     if rest & (X | Y):
         raise ValueError("adjustment set overlaps exposures or outcomes")
-    skip = lambda u, v: u in X  # noqa: E731 - exposures' outgoing arrows removed
+    skip = ArrowCut(X)  # the exposures' outgoing arrows removed
     if not d_separated_cut(G, {z}, Y, rest, skip, proper=False):
         return False
     return not d_separated_cut(G, {z}, X, rest, None, proper=False)

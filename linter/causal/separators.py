@@ -24,7 +24,7 @@ from collections.abc import Iterable, Iterator
 import networkx as nx
 
 from .adjustment import _roles, forbidden, proper_backdoor_skip, proper_causal_nodes
-from .dsep import SkipEdge, arrow_between, d_separated_cut
+from .dsep import ArrowCut, SkipEdge, arrow_between, d_separated_cut
 from .graph import _as_set
 
 Adjacency = dict[str, set[str]]
@@ -234,10 +234,10 @@ def _front_door_holds(G: nx.DiGraph, x: str, y: str, M: set[str], causal: set[st
                 seen.add(c)
                 stack.append(c)
     # (ii) no back-door path from x to M is open given the empty set.
-    if not d_separated_cut(G, {x}, M, set(), lambda u, v: u == x, proper=False):
+    if not d_separated_cut(G, {x}, M, set(), ArrowCut({x}), proper=False):
         return False
     # (iii) every back-door path from M to y is blocked by x.
-    return d_separated_cut(G, M, {y}, {x}, lambda u, v: u in M, proper=False)
+    return d_separated_cut(G, M, {y}, {x}, ArrowCut(M), proper=False)
 
 
 def front_door_set(
@@ -263,7 +263,7 @@ def front_door_set(
     med = (causal - Y) & measured
     candidates = [med]
     candidates.append(
-        {m for m in med if d_separated_cut(G, {x}, {m}, set(), lambda u, v: u == x, proper=False)}
+        {m for m in med if d_separated_cut(G, {x}, {m}, set(), ArrowCut({x}), proper=False)}
     )
     candidates.append({c for c in G._succ[x] if c in med})
     tried: list[set[str]] = []
