@@ -157,22 +157,28 @@ def _state_search(
         v, d, f = state
         if v in no_expand:
             continue
-        moves: list[tuple[str, int]] = []
+        # Same moves, in the same order, as the module docstring lists; the
+        # comprehensions without an arrow predicate are the common, fast case.
         if d == UP:
             if v in zs:
                 continue
-            moves.extend((p, UP) for p in pred[v] if not (skip_edge and skip_edge(p, v)))
-            moves.extend((c, DOWN) for c in succ[v] if not (skip_edge and skip_edge(v, c)))
+            if skip_edge is None:
+                moves = [(p, UP) for p in pred[v]]
+                moves += [(c, DOWN) for c in succ[v]]
+            else:
+                moves = [(p, UP) for p in pred[v] if not skip_edge(p, v)]
+                moves += [(c, DOWN) for c in succ[v] if not skip_edge(v, c)]
         else:
+            moves = []
             if v not in zs:
-                moves.extend((c, DOWN) for c in succ[v] if not (skip_edge and skip_edge(v, c)))
+                moves = [(c, DOWN) for c in succ[v] if not (skip_edge and skip_edge(v, c))]
             if v in anc_z:
-                moves.extend((p, UP) for p in pred[v] if not (skip_edge and skip_edge(p, v)))
+                moves += [(p, UP) for p in pred[v] if not (skip_edge and skip_edge(p, v))]
         for w, d2 in moves:
             if w in no_enter:
                 continue
-            f2 = update(v, d, d2, f) if update else f
-            nxt = (w, d2, f2)
+            nxt = (w, d2, update(v, d, d2, f)) if update else (w, d2, f)
+            f2 = nxt[2]
             if nxt in parent:
                 continue
             parent[nxt] = state
