@@ -127,13 +127,22 @@ class _Builder(Transformer):
         )
 
     def arrow_line(self, children):
-        """Split a whole ARROW_LINE token (the fast path) into names and operators.
+        """One ARROW_LINE token: a run of well-formed arrow lines, each at column 1."""
+        (tok,) = children
+        if tok.count("\n") == 1:
+            return [self._arrow_statement(tok, tok.line, tok.column)]
+        first = tok.line
+        return [
+            self._arrow_statement(text + "\n", first + i, 1)
+            for i, text in enumerate(tok.split("\n")[:-1])
+        ]
+
+    def _arrow_statement(self, tok: str, line: int, col0: int) -> ArrowStatement:
+        """Split one arrow line (with its newline) into names and operators.
 
         This runs once per line of a large diagram, so it builds the tuples
         directly rather than through helpers.
         """
-        (tok,) = children
-        line, col0 = tok.line, tok.column
         single = _SINGLE_ARROW.fullmatch(tok)
         if single is not None:
             src, op, dst, comment = single.groups()
@@ -148,7 +157,7 @@ class _Builder(Transformer):
                         Comment(comment, Span(line, c4, line, c4 + len(comment)), True)
                     )
                 arrow = Arrow(source, target, op == "<->", span)
-                return ArrowStatement(((source,), (target,)), (op,), (arrow,), span), line
+                return ArrowStatement(((source,), (target,)), (op,), (arrow,), span)
         groups: list[tuple[Name, ...]] = []
         current: list[Name] = []
         operators: list[str] = []
@@ -182,10 +191,9 @@ class _Builder(Transformer):
             )  # fmt: skip
         else:
             arrows = _make_arrows(groups, operators)
-        statement = ArrowStatement(
+        return ArrowStatement(
             tuple(groups), tuple(operators), arrows, Span(line, first.column, line, last.end_column)
         )
-        return statement, line
 
     def entry(self, children):
         key, _colon, value = children
@@ -231,9 +239,9 @@ class _Builder(Transformer):
         for item in children:
             if isinstance(item, Token):  # EOL
                 self._eol(item, last_line)
-            elif isinstance(item, tuple):  # arrow_line: (statement, line)
-                statements.append(item[0])
-                last_line = item[1]
+            elif isinstance(item, list):  # arrow_line: a run of arrow statements
+                statements.extend(item)
+                last_line = item[-1].span.line
             else:
                 statements.append(item)
                 last_line = item.closing_line if isinstance(item, Analysis) else item.span.end_line
@@ -462,7 +470,8 @@ def _explain(text: str, e: UnexpectedInput) -> SyntaxProblem:
         span = _end_span(text)
     else:
         start = tok.start_pos
-        span = Span(tok.line, tok.column, tok.line, tok.column + max(len(tok.rstrip("\n")), 1))
+        first_line = str(tok).split("\n", 1)[0]  # an ARROW_LINE token may span lines
+        span = Span(tok.line, tok.column, tok.line, tok.column + max(len(first_line), 1))
     before = _previous_tokens(text, start)
     prev = next((t for t in reversed(before)), None)
 
