@@ -8,10 +8,8 @@ problems.
 from __future__ import annotations
 
 import argparse
-import json
 
-from ..report.json_report import SCHEMA_VERSION, tool
-from .common import emit, load_for_analysis, settings_from
+from .common import emit_analyses, load_for_analysis, settings_from
 
 HELP = (
     "For each analysis: whether the declared adjustment set is valid, whether any valid "
@@ -103,9 +101,5 @@ def run(args: argparse.Namespace) -> int:
     settings = settings_from(args)
     result, analyses = load_for_analysis(args, settings)
     reports = [report_for(result.diagram, a, args.max) for a in analyses]
-    if args.format == "json":
-        doc = {"tool": tool(), "schema": SCHEMA_VERSION, "file": args.file, "analyses": reports}
-        emit(args, json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
-    else:
-        emit(args, render_text(args.file, reports, args.max))
+    emit_analyses(args, reports, render_text(args.file, reports, args.max))
     return 0

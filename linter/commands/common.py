@@ -72,3 +72,16 @@ def load_for_analysis(args: Namespace, settings: Settings):
             names = ", ".join(a.name for a in result.diagram.analyses) or "none"
             raise UsageProblem(f"{args.file} has no analysis `{wanted}` (it has: {names})")
     return result, analyses
+
+
+def emit_analyses(args: Namespace, reports: list[dict], text: str) -> None:
+    """Write a per-analysis report: the documented JSON shape, or the given text."""
+    if args.format == "json":
+        import json
+
+        from ..report.json_report import SCHEMA_VERSION, tool
+
+        doc = {"tool": tool(), "schema": SCHEMA_VERSION, "file": args.file, "analyses": reports}
+        emit(args, json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
+    else:
+        emit(args, text)

@@ -7,10 +7,8 @@ their number can be exponential: the listing stops at `--limit` and says so.
 from __future__ import annotations
 
 import argparse
-import json
 
-from ..report.json_report import SCHEMA_VERSION, tool
-from .common import emit, load_for_analysis, settings_from
+from .common import emit_analyses, load_for_analysis, settings_from
 
 HELP = (
     "List the paths between the exposure and the outcome of each analysis, each marked "
@@ -106,9 +104,5 @@ def run(args: argparse.Namespace) -> int:
         if clash:
             raise UsageProblem(f"--given includes an exposure or outcome: {', '.join(sorted(clash))}")
         reports.append(describe(result.diagram, a, given, args.limit))
-    if args.format == "json":
-        doc = {"tool": tool(), "schema": SCHEMA_VERSION, "file": args.file, "analyses": reports}
-        emit(args, json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
-    else:
-        emit(args, render_text(args.file, reports, args.limit))
+    emit_analyses(args, reports, render_text(args.file, reports, args.limit))
     return 0
