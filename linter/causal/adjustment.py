@@ -31,8 +31,8 @@ import networkx as nx
 
 from .dsep import (
     DOWN,
-    ArrowCut,
     UP,
+    ArrowCut,
     _check_sets,
     _state_search,
     _walk_back,

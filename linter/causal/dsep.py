@@ -98,20 +98,26 @@ def _state_search(
     parent: dict[tuple[str, int, int], tuple[str, int, int] | str] = {} if tree is None else tree
     queue: deque[tuple[str, int, int]] = deque()
     found: list[list[str]] = []
+
+    def accepted(state: tuple[str, int, int]):
+        """An accepted state: the walk to return, or None to keep searching."""
+        walk = _walk_back(parent, state)
+        if not exhaustive:
+            return walk
+        if take is not None:
+            return take(walk)
+        found.append(walk)
+        return None
+
     for origin, node, d, f in roots:
         state = (node, d, f)
         if state in parent:
             continue
         parent[state] = origin
         if accept(node, d, f):
-            if not exhaustive:
-                return _walk_back(parent, state)
-            if take is not None:
-                result = take(_walk_back(parent, state))
-                if result is not None:
-                    return result
-            else:
-                found.append(_walk_back(parent, state))
+            result = accepted(state)
+            if result is not None:
+                return result
         queue.append(state)
     while queue:
         state = queue.popleft()
@@ -144,14 +150,9 @@ def _state_search(
                 continue
             parent[nxt] = state
             if accept(w, d2, f2):
-                if not exhaustive:
-                    return _walk_back(parent, nxt)
-                if take is not None:
-                    result = take(_walk_back(parent, nxt))
-                    if result is not None:
-                        return result
-                else:
-                    found.append(_walk_back(parent, nxt))
+                result = accepted(nxt)
+                if result is not None:
+                    return result
             queue.append(nxt)
     if exhaustive and take is None:
         return found

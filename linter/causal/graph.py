@@ -39,29 +39,23 @@ def _as_set(G: nx.DiGraph, nodes: Iterable[str] | str) -> set[str]:
     return result
 
 
-def ancestors(G: nx.DiGraph, nodes: Iterable[str] | str) -> set[str]:
-    """``nodes`` together with every variable that has a directed path into one of them."""
-    pred = G._pred
-    seen = _as_set(G, nodes)
+def _closure(adjacency: dict, seen: set[str]) -> set[str]:
+    """Add to ``seen`` everything reachable along ``adjacency`` (iterative)."""
     stack = list(seen)
     while stack:
         v = stack.pop()
-        for p in pred[v]:
-            if p not in seen:
-                seen.add(p)
-                stack.append(p)
+        for w in adjacency[v]:
+            if w not in seen:
+                seen.add(w)
+                stack.append(w)
     return seen
+
+
+def ancestors(G: nx.DiGraph, nodes: Iterable[str] | str) -> set[str]:
+    """``nodes`` together with every variable that has a directed path into one of them."""
+    return _closure(G._pred, _as_set(G, nodes))
 
 
 def descendants(G: nx.DiGraph, nodes: Iterable[str] | str) -> set[str]:
     """``nodes`` together with every variable reachable from them along arrows."""
-    succ = G._succ
-    seen = _as_set(G, nodes)
-    stack = list(seen)
-    while stack:
-        v = stack.pop()
-        for c in succ[v]:
-            if c not in seen:
-                seen.add(c)
-                stack.append(c)
-    return seen
+    return _closure(G._succ, _as_set(G, nodes))
