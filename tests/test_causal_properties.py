@@ -43,6 +43,7 @@ from linter.causal import (
     open_noncausal_path,
     smallest_adjustment_set,
 )
+from linter.causal.separators import _adjustment_problem, _separator_search
 
 FAST = settings(max_examples=200, deadline=None, suppress_health_check=list(HealthCheck))
 MANY = settings(max_examples=400, deadline=None, suppress_health_check=list(HealthCheck))
@@ -140,6 +141,49 @@ def test_minimal_sets_smallest_and_existence_match_brute_force(case):
         assert list(minimal_adjustment_sets(G, X, Y, measured, max_sets=1)) == got[:1]
     else:
         assert smallest is None
+
+
+def assert_polynomial_delay(adj, xs, ys, removable):
+    """Linear-time steps before the first set, between sets and after the last: at most 2|R| + 1.
+
+    The bound is the one argued in enumerate_minimal_separators's docstring.
+    Returns the sets found.
+    """
+    bound = 2 * len(removable) + 1
+    found, gap = [], 0
+    for item in _separator_search(adj, xs, ys, removable):
+        gap += 1
+        if item is not None:
+            assert gap <= bound, (gap, bound)
+            found.append(item)
+            gap = 0
+    assert gap <= bound, (gap, bound)
+    return found
+
+
+@FAST
+@given(analysis_case(max_nodes=12))
+def test_minimal_set_listing_has_polynomial_delay(case):
+    G, X, Y, measured = case.G, set(case.X), set(case.Y), set(case.measured)
+    adj, X, Y, removable = _adjustment_problem(G, X, Y, measured)
+    found = assert_polynomial_delay(adj, X, Y, removable)
+    assert set(found) == set(minimal_adjustment_sets(G, X, Y, measured))
+
+
+def test_minimal_set_listing_exponentially_many_sets():
+    """k parallel two-step routes from x to y have 2**k minimal separators (common practice:
+    one vertex per route, either end), listed with the delay bound and no repeats."""
+    k = 9
+    adj = {"x": set(), "y": set()}
+    for i in range(k):
+        a, b = f"a{i}", f"b{i}"
+        adj[a], adj[b] = {"x", b}, {a, "y"}
+        adj["x"].add(a)
+        adj["y"].add(b)
+    removable = set(adj) - {"x", "y"}
+    found = assert_polynomial_delay(adj, {"x"}, {"y"}, removable)
+    assert len(found) == len(set(found)) == 2**k
+    assert all(len(s) == k and all({f"a{i}", f"b{i}"} & s for i in range(k)) for s in found)
 
 
 @MANY
