@@ -282,7 +282,9 @@ class Diagram:
         """The causal graph: variables and arrows, each `A <-> B` as a hidden parent.
 
         Hidden parents are named by `linter.causal.graph.hidden_node_name` (a name no
-        variable can have) and carry the node attribute `hidden=True`.
+        variable can have) and carry the node attribute `hidden=True`.  The graph is
+        frozen (`networkx.freeze`), so the causal searches may keep an index of it;
+        copy it to edit.
         """
         import networkx as nx
 
@@ -290,7 +292,7 @@ class Diagram:
         from .gcpause import collector_paused
 
         with collector_paused():
-            return self._build_graph(nx, hidden_node_name)
+            return nx.freeze(self._build_graph(nx, hidden_node_name))
 
     def _build_graph(self, nx, hidden_node_name) -> nx.DiGraph:
         g = nx.DiGraph()
@@ -315,7 +317,7 @@ class Diagram:
         g = nx.DiGraph()
         g.add_nodes_from(self.variables)
         g.add_edges_from((a.source.text, a.target.text) for a in self.arrows if not a.bidirected)
-        return g
+        return nx.freeze(g)
 
 
 def unquote(literal: str) -> str:

@@ -7,6 +7,11 @@ fair figures are (a) queries that must explore everything the exposure can
 reach (the outcome is a variable without arrows, so the answer is "separated"
 only after the whole search) and (b) time per Bayes-ball state visited, with
 the states counted by the same moves as ``d_separated``.
+
+The graphs are frozen, as the model freezes every diagram's graph, so the
+searches reuse one integer index per graph (linter.causal.indexed); building
+that index is timed on its own row, and a first query on a graph not yet
+indexed pays it once.
 """
 
 from __future__ import annotations
@@ -21,6 +26,10 @@ sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
 import networkx as nx  # noqa: E402
 
 from linter.causal import d_separated, minimal_adjustment_sets  # noqa: E402
+from linter.causal.indexed import Indexed  # noqa: E402
+
+
+PROBE = "probe_without_arrows"
 
 
 def random_dag(n: int, m: int, seed: int) -> nx.DiGraph:
@@ -34,12 +43,13 @@ def random_dag(n: int, m: int, seed: int) -> nx.DiGraph:
         if a != b:
             edges.add((min(a, b), max(a, b)))
     G.add_edges_from((f"v{a}", f"v{b}") for a, b in sorted(edges))
-    return G
+    G.add_node(PROBE)  # a variable without arrows, for separated_queries
+    return nx.freeze(G)
 
 
 def queries(G: nx.DiGraph, k: int, seed: int):
     rng = random.Random(seed)
-    nodes = list(G)
+    nodes = [v for v in G if v != PROBE]
     out = []
     for _ in range(k):
         x, y, *zs = rng.sample(nodes, 7)
@@ -47,14 +57,10 @@ def queries(G: nx.DiGraph, k: int, seed: int):
     return out
 
 
-PROBE = "probe_without_arrows"
-
-
 def separated_queries(G: nx.DiGraph, k: int, seed: int):
     """Queries whose answer is 'separated' only after the whole search: the
-    outcome is a variable with no arrows (added to G), five random conditioning
-    variables."""
-    G.add_node(PROBE)
+    outcome is a variable with no arrows (in G from the start), five random
+    conditioning variables."""
     rng = random.Random(seed)
     nodes = [v for v in G if v != PROBE]
     return [({x}, {PROBE}, set(zs)) for x, *zs in (rng.sample(nodes, 6) for _ in range(k))]
@@ -126,6 +132,10 @@ def main() -> None:
     rows = []
     G1 = random_dag(10_000, 50_000, 1)
     q1 = queries(G1, 20, 2)
+    t0 = time.perf_counter()
+    first_answer = d_separated(G1, *q1[0])  # builds the index of G1
+    t_first1 = time.perf_counter() - t0
+    build1 = best(lambda: Indexed(G1))
     ours1 = best(lambda: [d_separated(G1, x, y, z) for x, y, z in q1]) / len(q1)
     theirs1 = best(lambda: [nx.is_d_separator(G1, x, y, z) for x, y, z in q1], 1) / len(q1)
     bfs1 = best(lambda: [plain_bfs(G1, next(iter(x))) for x, _, _ in q1]) / len(q1)
@@ -133,9 +143,14 @@ def main() -> None:
     rows.append(("d-sep, 10k vars / 50k arrows (ours)", ours1))
     rows.append(("networkx.is_d_separator, same queries", theirs1))
     rows.append(("one plain BFS over the graph", bfs1))
+    rows.append(("building the index of the 10k graph (once per graph)", build1))
+    rows.append((f"first query on the 10k graph, index included (answer {first_answer})", t_first1))
 
     G2 = random_dag(100_000, 500_000, 3)
     q2 = queries(G2, 20, 4)
+    d_separated(G2, *q2[0])
+    build2 = best(lambda: Indexed(G2))
+    rows.append(("building the index of the 100k graph (once per graph)", build2))
     ours2 = best(lambda: [d_separated(G2, x, y, z) for x, y, z in q2]) / len(q2)
     rows.append(("d-sep, 100k vars / 500k arrows (ours)", ours2))
     bfs2 = best(lambda: [plain_bfs(G2, next(iter(x))) for x, _, _ in q2]) / len(q2)
@@ -160,7 +175,6 @@ def main() -> None:
         full[label], per_state[label] = t, t / visited
         rows.append((f"d-sep exploring everything, {label} ({visited:,.0f} states)", t))
         rows.append((f"  microseconds per state visited, {label}", t / visited * 1e6))
-        G.remove_node(PROBE)
 
     # Adjustment analysis on 10k variables: exposure and outcome in the middle of the order.
     t0 = time.perf_counter()
@@ -184,6 +198,7 @@ def main() -> None:
         print(f"{name:62} {value:10.1f}  {target:6}  {verdict}")
 
     ratio("networkx / ours (10k)", theirs1 / ours1, ">= 10", theirs1 / ours1 >= 10)
+    ratio("  networkx / our first query, index build included (10k)", theirs1 / t_first1, "", None)
     print(f"{'ours / plain BFS (10k)':62} {ours1 / bfs1:10.2f}  <= 3    {'met' if ours1 / bfs1 <= 3 else 'MISSED'}")
     ratio("ours 100k / ours 10k (random queries; they stop early)", ours2 / ours1, "<= 12", ours2 / ours1 <= 12)
     ratio("  states visited per random query, 100k / 10k", share["100k"] / share["10k"], "", None)

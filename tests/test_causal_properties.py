@@ -43,7 +43,12 @@ from linter.causal import (
     open_noncausal_path,
     smallest_adjustment_set,
 )
-from linter.causal.separators import _adjustment_problem, _separator_search
+from linter.causal.separators import (
+    _adjustment_problem,
+    _numbered,
+    _separator_search,
+    enumerate_minimal_separators,
+)
 
 FAST = settings(max_examples=200, deadline=None, suppress_health_check=list(HealthCheck))
 MANY = settings(max_examples=400, deadline=None, suppress_health_check=list(HealthCheck))
@@ -143,19 +148,19 @@ def test_minimal_sets_smallest_and_existence_match_brute_force(case):
         assert smallest is None
 
 
-def assert_polynomial_delay(adj, xs, ys, removable):
+def assert_polynomial_delay(nbrs, xs, ys, removable):
     """Linear-time steps before the first set, between sets and after the last: at most 2|R| + 1.
 
     The bound is the one argued in enumerate_minimal_separators's docstring.
     Returns the sets found.
     """
-    bound = 2 * len(removable) + 1
+    bound = 2 * sum(removable) + 1
     found, gap = [], 0
-    for item in _separator_search(adj, xs, ys, removable):
+    for item in _separator_search(nbrs, xs, ys, removable):
         gap += 1
         if item is not None:
             assert gap <= bound, (gap, bound)
-            found.append(item)
+            found.append(frozenset(item))
             gap = 0
     assert gap <= bound, (gap, bound)
     return found
@@ -165,9 +170,10 @@ def assert_polynomial_delay(adj, xs, ys, removable):
 @given(analysis_case(max_nodes=12))
 def test_minimal_set_listing_has_polynomial_delay(case):
     G, X, Y, measured = case.G, set(case.X), set(case.Y), set(case.measured)
-    adj, X, Y, removable = _adjustment_problem(G, X, Y, measured)
-    found = assert_polynomial_delay(adj, X, Y, removable)
-    assert set(found) == set(minimal_adjustment_sets(G, X, Y, measured))
+    ix, nbrs, _, xs, ys, removable = _adjustment_problem(G, X, Y, measured)
+    found = assert_polynomial_delay(nbrs, xs, ys, removable)
+    named = {frozenset(ix.names[i] for i in s) for s in found}
+    assert named == set(minimal_adjustment_sets(G, X, Y, measured))
 
 
 def test_minimal_set_listing_exponentially_many_sets():
@@ -180,10 +186,13 @@ def test_minimal_set_listing_exponentially_many_sets():
         adj[a], adj[b] = {"x", b}, {a, "y"}
         adj["x"].add(a)
         adj["y"].add(b)
-    removable = set(adj) - {"x", "y"}
-    found = assert_polynomial_delay(adj, {"x"}, {"y"}, removable)
+    nbrs, number, vertices = _numbered(adj)
+    removable = bytearray(v not in ("x", "y") for v in vertices)
+    found = assert_polynomial_delay(nbrs, [number["x"]], [number["y"]], removable)
+    found = [frozenset(vertices[i] for i in s) for s in found]
     assert len(found) == len(set(found)) == 2**k
     assert all(len(s) == k and all({f"a{i}", f"b{i}"} & s for i in range(k)) for s in found)
+    assert set(enumerate_minimal_separators(adj, {"x"}, {"y"}, set(adj) - {"x", "y"})) == set(found)
 
 
 @MANY

@@ -35,14 +35,19 @@ from .dsep import (
     ArrowCut,
     _check_sets,
     _state_search,
-    _walk_back,
+    ancestor_mask,
     ancestors_cut,
     d_separated_cut,
+    new_tree,
     path_is_causal,
     path_is_open,
     shortcut_walk,
+    start_roots,
+    tree_has,
+    walk_to,
 )
 from .graph import _as_set, ancestors, descendants
+from .indexed import KEEP_3, MaskView, closure, indexed
 
 
 def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str], set[str]]:
@@ -54,21 +59,17 @@ def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str],
 
 # cn(X, Y) is needed by almost every question about an analysis (validity,
 # forbidden set, witnesses, instruments), so it is kept per graph, together with
-# forb(X, Y) and De(X). Graphs are held weakly; the node and edge counts guard
-# against a graph edited in place (edit a copy instead, as networkx recommends,
-# to be safe).
+# forb(X, Y) and De(X). Only frozen graphs (networkx.freeze; the model freezes
+# every diagram's graph) are cached, since they cannot change; graphs are held
+# weakly.
 _CN_CACHE: weakref.WeakKeyDictionary[nx.DiGraph, dict] = weakref.WeakKeyDictionary()
-
-
-def _edge_count(G: nx.DiGraph) -> int:
-    # G.number_of_edges() walks a Python-level degree view (about 50 ms on
-    # 100,000 variables); summing the adjacency sizes in C is ten times faster.
-    return sum(map(len, G._succ.values()))
 
 
 def _per_graph(G: nx.DiGraph, kind: str, sets: tuple[frozenset[str], ...], compute) -> frozenset[str]:
     """Memoise ``compute()`` for this graph, question kind and node sets."""
-    key = (kind, sets, len(G._succ), _edge_count(G))
+    if not nx.is_frozen(G):
+        return frozenset(compute())
+    key = (kind, sets)
     per_graph = _CN_CACHE.setdefault(G, {})
     cached = per_graph.get(key)
     if cached is None:
@@ -102,25 +103,16 @@ def _forbidden_cached(G: nx.DiGraph, X: set[str], Y: set[str]) -> frozenset[str]
 
 
 def _proper_causal_nodes(G: nx.DiGraph, X: set[str], Y: set[str]) -> set[str]:
-    succ, pred = G._succ, G._pred
-    down: set[str] = set()
-    stack = [c for x in X for c in succ[x] if c not in X]
-    down.update(stack)
-    while stack:
-        v = stack.pop()
-        for c in succ[v]:
-            if c not in down and c not in X:
-                down.add(c)
-                stack.append(c)
-    up = set(Y)
-    stack = list(Y)
-    while stack:
-        v = stack.pop()
-        for p in pred[v]:
-            if p not in up and p not in X:
-                up.add(p)
-                stack.append(p)
-    return down & up
+    ix = indexed(G)
+    xs = ix.ids(X)
+    mark = ix.mask(X)  # bit 1: reached from X along arrows; X is a wall
+    closure(ix.succ, [c for x in xs for c in ix.succ[x]], mark, 1)
+    for x in xs:
+        mark[x] |= 2  # bit 2: reaches Y along arrows, avoiding X
+    closure(ix.pred, ix.ids(Y), mark, 2)
+    for x in xs:
+        mark[x] = 0
+    return ix.names_in(mark.translate(KEEP_3))
 
 
 def mediators(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:
@@ -215,60 +207,57 @@ def open_noncausal_path(
     """
     X, Y = _roles(G, X, Y)
     X, Y, Z = _check_sets(G, X, Y, Z)
+    q = _Query(G, X, Y, Z)
     cn = proper_causal_nodes(G, X, Y)
-    anc_z = ancestors(G, Z) if Z else set()
-    succ, pred = G._succ, G._pred
-    roots = []
-    for x in sorted(X):
-        roots += [(x, p, UP, 0) for p in pred[x] if p not in X]
-        roots += [(x, w, DOWN, 0) for w in succ[x] if w not in X and w not in cn]
-    walk = _state_search(G, roots, Z, anc_z, lambda v, d, f: v in Y, no_enter=X)
+    cn_mask = q.ix.mask(cn)
+    # Types (a) and (b): every first step except x -> w with w in cn.
+    roots = [r for r in start_roots(q.ix, q.xs, q.x_mask, cn_mask) if r[3] == 0]
+    walk = _state_search(q.ix, roots, q.inz, q.anc, q.y_mask, q.x_mask)
     if walk:
         return shortcut_walk(walk)
-    if not (anc_z & cn):
+    if not any(q.anc[i] for i in q.ix.ids(cn)):
         return None
-    return _typed_search(G, X, Y, Z, anc_z, cn, None)
+    return _typed_search(G, q, cn_mask, None)
 
 
-def _typed_search(G, X, Y, Z, anc_z, cn, collider_targets, pass_outcomes=True):
+class _Query:
+    """One question's X, Y and Z as mark arrays over the graph's index, with An(Z)."""
+
+    __slots__ = ("G", "X", "Y", "Z", "ix", "xs", "ys", "x_mask", "y_mask", "inz", "anc", "anc_names")
+
+    def __init__(self, G: nx.DiGraph, X: set[str], Y: set[str], Z: set[str]):
+        self.G, self.X, self.Y, self.Z = G, X, Y, Z
+        ix = self.ix = indexed(G)
+        self.xs, self.ys = ix.ids(X), ix.ids(Y)
+        self.x_mask, self.y_mask, self.inz = ix.mask(X), ix.mask(Y), ix.mask(Z)
+        self.anc = ancestor_mask(ix, Z)
+        self.anc_names = MaskView(ix, self.anc)
+
+    def genuine(self, path: list[str], colliders: set[str] | None) -> bool:
+        """Proper, non-causal, open given Z and (when asked) through a collider in ``colliders``."""
+        G = self.G
+        if not (_is_proper_noncausal(G, path, self.X, self.Y) and path_is_open(G, path, self.Z, self.anc_names)):
+            return False
+        return colliders is None or _collider_in(G, path, colliders) is not None
+
+
+def _typed_search(G, q: _Query, cn_mask: bytearray, collider_targets: set[str] | None):
     """Flagged search for type (c) paths and for collider-bias paths.
 
     Flag bit 1: the walk is still a directed path from its exposure.
     Flag bit 2: the walk has turned at a collider in ``collider_targets``.
+    A walk is accepted at an outcome with bit 1 clear and bit 2 as asked.
     """
-    succ, pred = G._succ, G._pred
-    roots = []
-    for x in sorted(X):
-        roots += [(x, p, UP, 0) for p in pred[x] if p not in X]
-        for w in succ[x]:
-            if w not in X:
-                roots.append((x, w, DOWN, 1 if w in cn else 0))
-
-    def update(v: str, d_in: int, d_out: int, f: int) -> int:
-        if d_out == UP:
-            f &= ~1
-            if d_in == DOWN and collider_targets is not None and v in collider_targets:
-                f |= 2
-        return f
-
-    need = 0 if collider_targets is None else 2
-
-    def accept(v: str, d: int, f: int) -> bool:
-        return v in Y and not (f & 1) and (f & 2) == need
-
-    def good(path: list[str]) -> bool:
-        if not (_is_proper_noncausal(G, path, X, Y) and path_is_open(G, path, Z, anc_z)):
-            return False
-        return collider_targets is None or _collider_in(G, path, collider_targets) is not None
-
+    roots = start_roots(q.ix, q.xs, q.x_mask, cn_mask)
+    colliders = None if collider_targets is None else q.ix.mask(collider_targets)
     # Shortcutting a flagged walk can drop the node that set the flag, so every
     # accepting walk is re-checked, in search order, until one gives a good
     # path (still one linear search, stopped at the first good one).
     return _state_search(
-        G, roots, Z, anc_z, accept, no_enter=X, update=update, exhaustive=True,
-        no_expand=frozenset() if pass_outcomes else Y,
-        take=lambda walk: _first_good(_shortcuts(walk), good),
-    )
+        q.ix, roots, q.inz, q.anc, q.y_mask, q.x_mask,
+        accept_flag=0 if collider_targets is None else 2, colliders=colliders,
+        take=lambda walk: _first_good(_shortcuts(walk), lambda p: q.genuine(p, collider_targets)),
+    )  # fmt: skip
 
 
 class _MeetTrees:
@@ -278,46 +267,38 @@ class _MeetTrees:
     so every z of one analysis is tested against the same trees.
     """
 
-    def __init__(self, G, X, Y, Z, anc_z):
-        never = lambda v, d, f: False  # noqa: E731 - build the whole search tree
-        self.tree_x: dict = {}
-        self.tree_y: dict = {}
-        _state_search(G, _roots(G, X, X), Z, anc_z, never, no_enter=X, no_expand=Y, tree=self.tree_x)
-        _state_search(G, _roots(G, Y, X | Y), Z, anc_z, never, no_enter=X | Y, tree=self.tree_y)
-        ends_x = {v for v, d, f in self.tree_x if d == DOWN}
-        # Colliders entered along an arrow from both sides.
-        self.meets = {v for v, d, f in self.tree_y if d == DOWN and v in ends_x}
+    def __init__(self, q: _Query):
+        ix = q.ix
+        self.tree_x, self.tree_y = new_tree(ix), new_tree(ix)
+        _state_search(ix, start_roots(ix, q.xs, q.x_mask), q.inz, q.anc, None, q.x_mask,
+                      no_expand=q.y_mask, tree=self.tree_x)  # fmt: skip
+        xy = bytearray(q.x_mask)
+        for y in q.ys:
+            xy[y] = 1
+        _state_search(ix, start_roots(ix, q.ys, xy), q.inz, q.anc, None, xy, tree=self.tree_y)
+
+    def meet_at(self, c: int) -> bool:
+        """Both searches entered c along an arrow (a collider reachable from both sides)."""
+        return tree_has(self.tree_x, c, DOWN) and tree_has(self.tree_y, c, DOWN)
 
 
-def _meet_at_collider(G, X, Y, Z, anc_z, targets, trees: _MeetTrees | None = None):
+def _meet_at_collider(q: _Query, targets: set[str], trees: _MeetTrees):
     """Join an open walk from X and an open walk from Y that both enter a
     collider c (an ancestor of z) along an arrow; shortcut and re-check.
 
-    Two linear searches (shared by all z when ``trees`` is given); candidates
-    are tried in a fixed order and each check costs the length of the walk.
+    Two linear searches (shared by all z); candidates are tried in a fixed
+    order and each check costs the length of the walk.
     """
-    if trees is None:
-        trees = _MeetTrees(G, X, Y, Z, anc_z)
-    for c in sorted(targets & trees.meets):
-        state = (c, DOWN, 0)
-        walk = _walk_back(trees.tree_x, state) + list(reversed(_walk_back(trees.tree_y, state)))[1:]
-        for path in _shortcuts(walk):
-            if (
-                _is_proper_noncausal(G, path, X, Y)
-                and path_is_open(G, path, Z, anc_z)
-                and _collider_in(G, path, targets) is not None
-            ):
-                return path
+    ix = q.ix
+    for c in sorted(targets):
+        i = ix.index[c]
+        if not trees.meet_at(i):
+            continue
+        walk = walk_to(ix, trees.tree_x, i, DOWN) + list(reversed(walk_to(ix, trees.tree_y, i, DOWN)))[1:]
+        path = _first_good(_shortcuts(walk), lambda p: q.genuine(p, targets))
+        if path is not None:
+            return path
     return None
-
-
-def _roots(G, origins, no_enter):
-    succ, pred = G._succ, G._pred
-    out = []
-    for o in sorted(origins):
-        out += [(o, p, UP, 0) for p in pred[o] if p not in no_enter]
-        out += [(o, c, DOWN, 0) for c in succ[o] if c not in no_enter]
-    return out
 
 
 def _collider_in(G: nx.DiGraph, path: list[str], targets: set[str]) -> str | None:
@@ -342,10 +323,11 @@ def confounding_path(
     """
     X, Y = _roles(G, X, Y)
     X, Y, Z = _check_sets(G, X, Y, Z)
-    pred = G._pred
-    roots = [(x, p, UP, 0) for x in sorted(X) for p in pred[x] if p not in X]
-    # anc_z = empty set: no collider may be passed.
-    walk = _state_search(G, roots, Z, set(), lambda v, d, f: v in Y, no_enter=X)
+    ix = indexed(G)
+    x_mask = ix.mask(X)
+    roots = [r for r in start_roots(ix, ix.ids(X), x_mask) if r[2] == UP]
+    # An(Z) taken as empty: no collider may be passed.
+    walk = _state_search(ix, roots, ix.mask(Z), bytes(ix.n), ix.mask(Y), x_mask)
     return shortcut_walk(walk) if walk else None
 
 
@@ -387,8 +369,8 @@ def collider_bias_paths(
     for z in zs:
         if z not in Z:
             raise ValueError(f"{z!r} is not in the adjustment set")
-    cn = proper_causal_nodes(G, X, Y)
-    anc_z = ancestors(G, Z) if Z else set()
+    q = _Query(G, X, Y, Z)
+    cn_mask = q.ix.mask(proper_causal_nodes(G, X, Y))
     trees: _MeetTrees | None = None
     fallback: list[list[str] | None] = []
     out: dict[str, tuple[list[str], str] | None] = {}
@@ -401,10 +383,10 @@ def collider_bias_paths(
         # they give no path.  Each search is sound, so the order changes which
         # path is shown, never whether one is found.
         if trees is None:
-            trees = _MeetTrees(G, X, Y, Z, anc_z)
-        path = _meet_at_collider(G, X, Y, Z, anc_z, targets, trees)
+            trees = _MeetTrees(q)
+        path = _meet_at_collider(q, targets, trees)
         if path is None:
-            path = _typed_search(G, X, Y, Z, anc_z, cn, targets)
+            path = _typed_search(G, q, cn_mask, targets)
         if path is None:
             # Fall back on the exact open non-causal path search: when its
             # path turns at a collider above z, that path is the witness.

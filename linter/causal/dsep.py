@@ -25,20 +25,18 @@ Conventions for overlapping sets (documented public behaviour):
 
 from __future__ import annotations
 
+from array import array
 from collections import deque
 from collections.abc import Callable, Iterable
 
 import networkx as nx
 
 from .graph import _as_set, ancestors
+from .indexed import Indexed, closure, indexed
 
 UP = 0  # entered from a child, i.e. against the arrow
 DOWN = 1  # entered from a parent, i.e. along the arrow
 
-# skip_edge(parent, child) -> True when that arrow is to be treated as absent
-SkipEdge = Callable[[str, str], bool] | None
-# update(node, dir_in, dir_out, flag) -> new flag
-FlagUpdate = Callable[[str, int, int, int], int]
 
 
 def _check_sets(G: nx.DiGraph, xs, ys, zs) -> tuple[set[str], set[str], set[str]]:
@@ -60,114 +58,123 @@ def d_separated(G: nx.DiGraph, xs: Iterable[str], ys: Iterable[str], zs: Iterabl
         return False
     if not xs or not ys:
         return True
-    anc_z = ancestors(G, zs) if zs else set()
+    ix = indexed(G)
     # The two-stack reachability loop of _connected_cut, with no arrow cut.
-    return not _connected_cut(G, xs, ys, zs, anc_z, None, proper=False)
+    return not _connected_cut(ix, xs, ys, zs, None, proper=False)
 
 
 def _state_search(
-    G: nx.DiGraph,
-    roots: Iterable[tuple[str, str, int, int]],
-    zs: set[str],
-    anc_z: set[str],
-    accept: Callable[[str, int, int], bool],
-    no_enter: set[str],
-    skip_edge: SkipEdge = None,
-    update: FlagUpdate | None = None,
-    exhaustive: bool = False,
-    no_expand: set[str] | frozenset[str] = frozenset(),
-    tree: dict | None = None,
+    ix: Indexed,
+    roots: Iterable[tuple[int, int, int, int]],
+    inz: bytes | bytearray,
+    anc: bytes | bytearray,
+    targets: bytes | bytearray | None,
+    no_enter: bytes | bytearray,
+    *,
+    accept_flag: int = 0,
+    colliders: bytes | bytearray | None = None,
+    no_expand: bytes | bytearray | None = None,
+    tree: array | None = None,
     take: Callable[[list[str]], object] | None = None,
 ):
-    """Breadth-first search over (node, direction, flag) states with parent pointers.
+    """Breadth-first search over (variable, direction, flag) states with parent pointers.
 
-    ``roots`` are ``(origin, node, direction, flag)``: the walk starts at
-    ``origin`` and its first move enters ``node`` in ``direction``.  The
-    origin itself is never re-entered when it is in ``no_enter``.  Returns the
-    walk (node list, possibly with repeated nodes) ending at the first state
-    for which ``accept`` holds, or None.  Each state is expanded once, so the
-    cost is linear in |V| + |E| times the (constant) number of flag values.
+    Variables are indices of ``ix``; sets are mark arrays.  ``roots`` are
+    ``(origin, node, direction, flag)``: the walk starts at ``origin`` and
+    its first move enters ``node`` in ``direction``.  A state is accepted
+    when its variable is in ``targets`` and its flag equals ``accept_flag``;
+    the search returns the walk (names, possibly repeating) to the first
+    accepted state, or None.  Each state is expanded once, so the cost is
+    linear in |V| + |E| times the (constant) number of flag values.
 
-    With ``exhaustive`` every accepting walk is collected, in search order.
-    With ``take`` as well, each accepting walk is handed to ``take`` as soon
-    as it is found and the first result that is not None is returned (None
-    when there is none): the same answer as scanning the exhaustive list in
-    order, without finishing the search once a walk is taken.
+    Flags (used by the typed searches of linter.causal.adjustment; a search
+    whose roots have flag 0 and no ``colliders`` keeps flag 0 throughout):
+    bit 1 "still a directed path from the exposure" is cleared by every move
+    against an arrow; bit 2 "turned at a collider in ``colliders``" is set
+    by a move against an arrow out of a state entered along one.
+
+    With ``take``, each accepted walk is handed to ``take`` and the first
+    result that is not None is returned (None when there is none): the same
+    answer as scanning every accepted walk in order, without finishing the
+    search once one is taken.  With ``targets`` None the search runs to the
+    end; pass ``tree`` (an array of ``8 * n`` entries -1) to keep its parent
+    pointers.
     """
-    succ, pred = G._succ, G._pred
-    parent: dict[tuple[str, int, int], tuple[str, int, int] | str] = {} if tree is None else tree
-    queue: deque[tuple[str, int, int]] = deque()
-    found: list[list[str]] = []
+    succ, pred = ix.succ, ix.pred
+    parent = tree if tree is not None else new_tree(ix)
+    queue: deque[int] = deque()
 
-    def accepted(state: tuple[str, int, int]):
-        """An accepted state: the walk to return, or None to keep searching."""
-        walk = _walk_back(parent, state)
-        if not exhaustive:
-            return walk
-        if take is not None:
-            return take(walk)
-        found.append(walk)
-        return None
+    def accepted(state: int):
+        walk = _walk_back(ix, parent, state)
+        return walk if take is None else take(walk)
 
     for origin, node, d, f in roots:
-        state = (node, d, f)
-        if state in parent:
+        state = node << 3 | d << 2 | f
+        if parent[state] != -1:
             continue
-        parent[state] = origin
-        if accept(node, d, f):
+        parent[state] = -2 - origin
+        if targets is not None and targets[node] and f == accept_flag:
             result = accepted(state)
             if result is not None:
                 return result
         queue.append(state)
     while queue:
         state = queue.popleft()
-        v, d, f = state
-        if v in no_expand:
+        v, d, f = state >> 3, state >> 2 & 1, state & 3
+        if no_expand is not None and no_expand[v]:
             continue
-        # Same moves, in the same order, as the module docstring lists; the
-        # comprehensions without an arrow predicate are the common, fast case.
+        # Same moves, in the same order, as the module docstring lists.
+        up_flag = f & 2  # a move against an arrow ends "still directed"
+        if d == DOWN and colliders is not None and colliders[v]:
+            up_flag = 2
         if d == UP:
-            if v in zs:
+            if inz[v]:
                 continue
-            if skip_edge is None:
-                moves = [(p, UP) for p in pred[v]]
-                moves += [(c, DOWN) for c in succ[v]]
-            else:
-                moves = [(p, UP) for p in pred[v] if not skip_edge(p, v)]
-                moves += [(c, DOWN) for c in succ[v] if not skip_edge(v, c)]
+            moves = [(p, UP, up_flag) for p in pred[v]]
+            moves += [(c, DOWN, f) for c in succ[v]]
         else:
-            moves = []
-            if v not in zs:
-                moves = [(c, DOWN) for c in succ[v] if not (skip_edge and skip_edge(v, c))]
-            if v in anc_z:
-                moves += [(p, UP) for p in pred[v] if not (skip_edge and skip_edge(p, v))]
-        for w, d2 in moves:
-            if w in no_enter:
+            moves = [(c, DOWN, f) for c in succ[v]] if not inz[v] else []
+            if anc[v]:
+                moves += [(p, UP, up_flag) for p in pred[v]]
+        for w, d2, f2 in moves:
+            if no_enter[w]:
                 continue
-            nxt = (w, d2, update(v, d, d2, f)) if update else (w, d2, f)
-            f2 = nxt[2]
-            if nxt in parent:
+            nxt = w << 3 | d2 << 2 | f2
+            if parent[nxt] != -1:
                 continue
             parent[nxt] = state
-            if accept(w, d2, f2):
+            if targets is not None and targets[w] and f2 == accept_flag:
                 result = accepted(nxt)
                 if result is not None:
                     return result
             queue.append(nxt)
-    if exhaustive and take is None:
-        return found
     return None
 
 
-def _walk_back(parent: dict, state: tuple[str, int, int]) -> list[str]:
-    walk = [state[0]]
+def new_tree(ix: Indexed) -> array:
+    """Parent pointers for every state of :func:`_state_search`, all unset (-1)."""
+    return array("i", [-1]) * (8 * ix.n)
+
+
+def tree_has(tree: array, v: int, d: int, f: int = 0) -> bool:
+    return tree[v << 3 | d << 2 | f] != -1
+
+
+def _walk_back(ix: Indexed, parent: array, state: int) -> list[str]:
+    names = ix.names
+    walk = [names[state >> 3]]
     cur = parent[state]
-    while not isinstance(cur, str):
-        walk.append(cur[0])
+    while cur >= 0:
+        walk.append(names[cur >> 3])
         cur = parent[cur]
-    walk.append(cur)  # the origin
+    walk.append(names[-2 - cur])  # the origin
     walk.reverse()
     return walk
+
+
+def walk_to(ix: Indexed, tree: array, v: int, d: int, f: int = 0) -> list[str]:
+    """The walk of a finished search ``tree`` that ends in state (v, d, f)."""
+    return _walk_back(ix, tree, v << 3 | d << 2 | f)
 
 
 def shortcut_walk(walk: list[str]) -> list[str]:
@@ -208,15 +215,42 @@ def shortcut_walk(walk: list[str]) -> list[str]:
     return path
 
 
-def _start_roots(G: nx.DiGraph, xs: Iterable[str], skip_edge: SkipEdge = None):
-    succ, pred = G._succ, G._pred
-    for x in sorted(xs):
-        for p in pred[x]:
-            if not (skip_edge and skip_edge(p, x)):
-                yield (x, p, UP, 0)
-        for c in succ[x]:
-            if not (skip_edge and skip_edge(x, c)):
-                yield (x, c, DOWN, 0)
+def start_roots(ix: Indexed, xs: Iterable[int], no_enter: bytes | bytearray, directed=None):
+    """Roots of a search from each x (sorted by name): every parent entered UP,
+    every child entered DOWN, none in ``no_enter``; a child in ``directed``
+    starts with flag 1 ("still directed")."""
+    succ, pred, names = ix.succ, ix.pred, ix.names
+    roots = []
+    for x in sorted(xs, key=names.__getitem__):
+        roots += [(x, p, UP, 0) for p in pred[x] if not no_enter[p]]
+        if directed is None:
+            roots += [(x, c, DOWN, 0) for c in succ[x] if not no_enter[c]]
+        else:
+            roots += [(x, c, DOWN, 1 if directed[c] else 0) for c in succ[x] if not no_enter[c]]
+    return roots
+
+
+def ancestor_mask(ix: Indexed, nodes: Iterable[str], cut: ArrowCut | None = None) -> bytearray:
+    """An(nodes) as a mark array, in G without the arrows of ``cut``."""
+    mark = bytearray(ix.n)
+    seeds = ix.ids(nodes)
+    if cut is None:
+        closure(ix.pred, seeds, mark)
+        return mark
+    c = _CutMasks(ix, cut)
+    pred, tails, into = ix.pred, c.tails, c.into
+    stack = []
+    for s in seeds:
+        if not mark[s]:
+            mark[s] = 1
+            stack.append(s)
+    while stack:
+        v = stack.pop()
+        for p in pred[v] if not into[v] else [p for p in pred[v] if not tails[p]]:
+            if not mark[p]:
+                mark[p] = 1
+                stack.append(p)
+    return mark
 
 
 def d_connecting_path(
@@ -234,10 +268,10 @@ def d_connecting_path(
         return [min(common)]
     if not xs or not ys:
         return None
-    anc_z = ancestors(G, zs) if zs else set()
-    walk = _state_search(
-        G, _start_roots(G, xs), zs, anc_z, lambda v, d, f: v in ys, no_enter=xs
-    )
+    ix = indexed(G)
+    no_enter = ix.mask(xs)
+    roots = start_roots(ix, ix.ids(xs), bytes(ix.n))
+    walk = _state_search(ix, roots, ix.mask(zs), ancestor_mask(ix, zs), ix.mask(ys), no_enter)
     return shortcut_walk(walk) if walk else None
 
 
@@ -295,115 +329,107 @@ class ArrowCut:
         return u in self.tails and (self.heads is None or v in self.heads)
 
 
-class _Everything:
-    """A 'set' holding every node: a general predicate may cut any arrow."""
-
-    def __contains__(self, item: object) -> bool:
-        return True
+# The arrows a search treats as absent (the proper back-door graph, an
+# exposure's outgoing arrows), or None.
+SkipEdge = ArrowCut | None
 
 
-def _cut_sets(G: nx.DiGraph, skip_edge: SkipEdge):
-    """(nodes whose outgoing arrows may be cut, nodes whose incoming arrows may be cut)."""
-    if skip_edge is None:
-        return frozenset(), frozenset()
-    if isinstance(skip_edge, ArrowCut):
-        succ = G._succ
-        heads = {c for t in skip_edge.tails for c in succ[t]}
-        if skip_edge.heads is not None:
-            heads &= skip_edge.heads
-        return skip_edge.tails, heads
-    everything = _Everything()
-    return everything, everything
+class _CutMasks:
+    """An ArrowCut as mark arrays: ``tails`` (arrows out of them may be cut),
+    ``into`` (variables some cut arrow points into) and the kept children."""
+
+    __slots__ = ("tails", "into", "heads", "succ")
+
+    def __init__(self, ix: Indexed, cut: ArrowCut):
+        self.tails = ix.mask(cut.tails)
+        self.heads = None if cut.heads is None else ix.mask(cut.heads)
+        self.succ = ix.succ
+        self.into = bytearray(ix.n)
+        for t in ix.ids(cut.tails):
+            for c in ix.succ[t]:
+                if self.heads is None or self.heads[c]:
+                    self.into[c] = 1
+
+    def children(self, v: int):
+        """Children of a tail v that keep their arrow from v."""
+        if self.heads is None:
+            return ()
+        heads = self.heads
+        return [c for c in self.succ[v] if not heads[c]]
 
 
 def _connected_cut(
-    G: nx.DiGraph,
+    ix: Indexed,
     xs: set[str],
     ys: set[str],
     zs: set[str],
-    anc_z: set[str],
-    skip_edge: SkipEdge,
+    cut: ArrowCut | None,
     proper: bool,
 ) -> bool:
     """True when some y is reachable from xs by the Bayes-ball moves of
-    :func:`_state_search` in G without the arrows in ``skip_edge``.
+    :func:`_state_search` in G without the arrows of ``cut``.
 
     The same moves and visited states as the general search, written as a
-    two-stack loop with two visited sets (no tuple states, no parent pointers,
-    no flags) because only the yes/no answer is needed: this is the hot loop of
+    two-stack loop with two visited marks (no states, no parent pointers, no
+    flags) because only the yes/no answer is needed: this is the hot loop of
     d-separation, validity and instrument tests on large diagrams.
     """
-    succ, pred = G._succ, G._pred
-    cut_tails, cut_heads = _cut_sets(G, skip_edge)
-    seen_up: set[str] = set(xs)
+    succ, pred = ix.succ, ix.pred
+    anc = ancestor_mask(ix, zs, cut)
+    inz, isy = ix.mask(zs), ix.mask(ys)
+    if cut is None:
+        masks = None
+        tails = into = bytes(ix.n)
+    else:
+        masks = _CutMasks(ix, cut)
+        tails, into = masks.tails, masks.into
+    up_stack = ix.ids(xs)
+    seen_up = ix.mask(xs)
     # proper: the exposures are never re-entered; otherwise they may be
     # entered along an arrow (entering one against an arrow repeats its start).
-    seen_down: set[str] = set(xs) if proper else set()
-    up_stack = list(xs)
-    down_stack: list[str] = []
+    seen_down = bytearray(seen_up) if proper else bytearray(ix.n)
+    down_stack: list[int] = []
     while up_stack or down_stack:
         while up_stack:
             v = up_stack.pop()
             # v is not in zs here: blocked states are never pushed.
-            parents = pred[v] if v not in cut_heads else [p for p in pred[v] if not skip_edge(p, v)]
-            for p in parents:
-                if p not in seen_up:
-                    if p in ys:
+            for p in pred[v] if not into[v] else [p for p in pred[v] if not tails[p]]:
+                if not seen_up[p]:
+                    if isy[p]:
                         return True
-                    seen_up.add(p)
-                    if p not in zs:
+                    seen_up[p] = 1
+                    if not inz[p]:
                         up_stack.append(p)
-            children = succ[v] if v not in cut_tails else [c for c in succ[v] if not skip_edge(v, c)]
-            for c in children:
-                if c not in seen_down:
-                    if c in ys:
+            for c in succ[v] if not tails[v] else masks.children(v):  # type: ignore[union-attr]
+                if not seen_down[c]:
+                    if isy[c]:
                         return True
-                    seen_down.add(c)
+                    seen_down[c] = 1
                     down_stack.append(c)
         while down_stack:
             v = down_stack.pop()
-            if v not in zs:
-                children = succ[v] if v not in cut_tails else [c for c in succ[v] if not skip_edge(v, c)]
-                for c in children:
-                    if c not in seen_down:
-                        if c in ys:
+            if not inz[v]:
+                for c in succ[v] if not tails[v] else masks.children(v):  # type: ignore[union-attr]
+                    if not seen_down[c]:
+                        if isy[c]:
                             return True
-                        seen_down.add(c)
+                        seen_down[c] = 1
                         down_stack.append(c)
-            if v in anc_z:
-                parents = pred[v] if v not in cut_heads else [p for p in pred[v] if not skip_edge(p, v)]
-                for p in parents:
-                    if p not in seen_up:
-                        if p in ys:
+            if anc[v]:
+                for p in pred[v] if not into[v] else [p for p in pred[v] if not tails[p]]:
+                    if not seen_up[p]:
+                        if isy[p]:
                             return True
-                        seen_up.add(p)
-                        if p not in zs:
+                        seen_up[p] = 1
+                        if not inz[p]:
                             up_stack.append(p)
     return False
 
 
-def _cut_test(cut_from: set[str], cut_to: set[str] | None) -> SkipEdge:
-    """Edge predicate for 'arrows out of cut_from (into cut_to, or anywhere) removed'."""
-    if not cut_from:
-        return None
-    return ArrowCut(cut_from, cut_to)
-
-
 def ancestors_cut(G: nx.DiGraph, nodes: set[str], skip_edge: SkipEdge) -> set[str]:
-    """Ancestors (inclusive) in G with the arrows chosen by ``skip_edge`` removed."""
-    if skip_edge is None:
-        return ancestors(G, nodes)
-    pred = G._pred
-    _, cut_heads = _cut_sets(G, skip_edge)
-    seen = set(nodes)
-    stack = list(seen)
-    while stack:
-        v = stack.pop()
-        for p in pred[v]:
-            if p not in seen and not (v in cut_heads and skip_edge(p, v)):
-                seen.add(p)
-                stack.append(p)
-    return seen
+    """Ancestors (inclusive) in G with the arrows of ``skip_edge`` removed."""
+    ix = indexed(G)
+    return ix.names_in(ancestor_mask(ix, _as_set(G, nodes), skip_edge))
 
 
 def d_separated_cut(
@@ -426,5 +452,4 @@ def d_separated_cut(
         return False
     if not xs or not ys:
         return True
-    anc_z = ancestors_cut(G, zs, skip_edge) if zs else set()
-    return not _connected_cut(G, xs, ys, zs, anc_z, skip_edge, proper)
+    return not _connected_cut(indexed(G), xs, ys, zs, skip_edge, proper)

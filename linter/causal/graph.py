@@ -5,8 +5,8 @@ bidirected edge ``A <-> B`` is represented by a hidden node named
 ``hidden_node_name(A, B)`` with attribute ``hidden=True`` and arrows into A
 and B (the usual latent-projection reading of a bidirected edge).
 
-All walks here read the adjacency dicts ``G._succ`` / ``G._pred`` directly
-and are iterative, because diagrams may hold 100,000 variables.
+All walks are iterative, because diagrams may hold 100,000 variables, and
+run over the integer index of linter.causal.indexed.
 """
 
 from __future__ import annotations
@@ -39,23 +39,20 @@ def _as_set(G: nx.DiGraph, nodes: Iterable[str] | str) -> set[str]:
     return result
 
 
-def _closure(adjacency: dict, seen: set[str]) -> set[str]:
-    """Add to ``seen`` everything reachable along ``adjacency`` (iterative)."""
-    stack = list(seen)
-    while stack:
-        v = stack.pop()
-        for w in adjacency[v]:
-            if w not in seen:
-                seen.add(w)
-                stack.append(w)
-    return seen
-
-
 def ancestors(G: nx.DiGraph, nodes: Iterable[str] | str) -> set[str]:
     """``nodes`` together with every variable that has a directed path into one of them."""
-    return _closure(G._pred, _as_set(G, nodes))
+    return _reachable(G, nodes, upwards=True)
 
 
 def descendants(G: nx.DiGraph, nodes: Iterable[str] | str) -> set[str]:
     """``nodes`` together with every variable reachable from them along arrows."""
-    return _closure(G._succ, _as_set(G, nodes))
+    return _reachable(G, nodes, upwards=False)
+
+
+def _reachable(G: nx.DiGraph, nodes: Iterable[str] | str, upwards: bool) -> set[str]:
+    from .indexed import closure, indexed
+
+    ix = indexed(G)
+    found = closure(ix.pred if upwards else ix.succ, ix.ids(_as_set(G, nodes)), bytearray(ix.n))
+    names = ix.names
+    return {names[i] for i in found}

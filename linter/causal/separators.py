@@ -18,71 +18,100 @@ the side they touch.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Iterator
+from collections.abc import Hashable, Iterable, Iterator, Mapping
+from itertools import compress
 
 import networkx as nx
 
 from .adjustment import _roles, forbidden, proper_backdoor_skip, proper_causal_nodes
-from .dsep import ArrowCut, SkipEdge, arrow_between, d_separated_cut
+from .dsep import ArrowCut, SkipEdge, _CutMasks, ancestor_mask, arrow_between, d_separated_cut
 from .graph import _as_set
+from .indexed import Indexed, indexed
 
-Adjacency = dict[str, set[str]]
+Adjacency = Mapping[Hashable, Iterable[Hashable]]
+# Undirected adjacency over vertices 0..N-1 (the graph's index numbers).
+Neighbours = list[list[int]]
 
 
-def moral_ancestral_graph(G: nx.DiGraph, nodes: set[str], skip_edge: SkipEdge = None) -> Adjacency:
-    """Undirected adjacency of the moral graph of G[An(nodes)] (arrows in skip_edge removed)."""
-    pred = G._pred
-    anc = set(nodes)
-    stack = list(anc)
-    while stack:
-        v = stack.pop()
-        for p in pred[v]:
-            if p not in anc and not (skip_edge and skip_edge(p, v)):
-                anc.add(p)
-                stack.append(p)
-    adj: Adjacency = {v: set() for v in anc}
-    for v in anc:
-        parents = [p for p in pred[v] if not (skip_edge and skip_edge(p, v))]
+def _moral_ids(ix: Indexed, seeds: Iterable[str], cut: SkipEdge = None) -> tuple[Neighbours, list[int]]:
+    """The moral graph of G[An(seeds)] (arrows of ``cut`` removed) over G's index
+    numbers, and its vertices.  Neighbour lists may repeat a vertex."""
+    anc = ancestor_mask(ix, seeds, cut)
+    pred = ix.pred
+    if cut is None:
+        tails = into = bytes(ix.n)
+    else:
+        masks = _CutMasks(ix, cut)
+        tails, into = masks.tails, masks.into
+    vertices = list(compress(range(ix.n), anc))
+    nbrs: Neighbours = [[] for _ in range(ix.n)]
+    for v in vertices:
+        parents = pred[v] if not into[v] else [p for p in pred[v] if not tails[p]]
         for i, p in enumerate(parents):
-            adj[v].add(p)
-            adj[p].add(v)
+            nbrs[v].append(p)
+            nbrs[p].append(v)
             for q in parents[i + 1 :]:  # marry co-parents
-                adj[p].add(q)
-                adj[q].add(p)
-    return adj
+                nbrs[p].append(q)
+                nbrs[q].append(p)
+    return nbrs, vertices
 
 
-def _closure(adj: Adjacency, seed: Iterable[str], removable: set[str]) -> tuple[set[str], set[str]]:
-    """The side grown from ``seed`` through non-removable vertices, and its removable border."""
-    side = set(seed)
-    stack = list(side)
-    border: set[str] = set()
+def moral_ancestral_graph(G: nx.DiGraph, nodes: set[str], skip_edge: SkipEdge = None) -> dict[str, set[str]]:
+    """Undirected adjacency of the moral graph of G[An(nodes)] (arrows in skip_edge removed)."""
+    ix = indexed(G)
+    nbrs, vertices = _moral_ids(ix, _as_set(G, nodes), skip_edge)
+    names = ix.names
+    return {names[v]: {names[u] for u in nbrs[v]} for v in vertices}
+
+
+def _closure(nbrs: Neighbours, seed: Iterable[int], removable: bytes | bytearray):
+    """The side grown from ``seed`` through non-removable vertices, and its removable border.
+
+    Returns (side marks, side vertices, border marks, border vertices).
+    """
+    side = bytearray(len(nbrs))
+    members = []
+    for s in seed:
+        if not side[s]:
+            side[s] = 1
+            members.append(s)
+    stack = list(members)
+    border_mark = bytearray(len(nbrs))
+    border = []
     while stack:
         v = stack.pop()
-        for u in adj[v]:
-            if u in side:
+        for u in nbrs[v]:
+            if side[u] or border_mark[u]:
                 continue
-            if u in removable:
-                border.add(u)
+            if removable[u]:
+                border_mark[u] = 1
+                border.append(u)
             else:
-                side.add(u)
+                side[u] = 1
                 stack.append(u)
-    return side, border - side
+                members.append(u)
+    return side, members, border_mark, border
 
 
-def _reach(adj: Adjacency, start: Iterable[str], blocked: set[str]) -> set[str]:
-    seen = set(start)
-    stack = list(seen)
+def _reach(nbrs: Neighbours, start: Iterable[int], walls: bytes | bytearray) -> bytearray:
+    """Marks: 2 on everything reachable from ``start`` without entering a wall,
+    1 on the walls (``walls`` marks them with 1), 0 elsewhere."""
+    seen = bytearray(walls)
+    stack = []
+    for s in start:
+        if not seen[s]:
+            seen[s] = 2
+            stack.append(s)
     while stack:
         v = stack.pop()
-        for u in adj[v]:
-            if u not in seen and u not in blocked:
-                seen.add(u)
+        for u in nbrs[v]:
+            if not seen[u]:
+                seen[u] = 2
                 stack.append(u)
     return seen
 
 
-def _close_to(adj: Adjacency, seed: Iterable[str], targets: set[str], removable: set[str]) -> frozenset[str] | None:
+def _close_to(nbrs: Neighbours, seed: Iterable[int], targets: list[int], removable) -> list[int] | None:
     """The minimal separator between ``seed``'s side and ``targets`` closest to the seed.
 
     The border of the closure separates; keeping only the border vertices
@@ -90,49 +119,54 @@ def _close_to(adj: Adjacency, seed: Iterable[str], targets: set[str], removable:
     touches both sides, which is the characterisation of a minimal one.
     None when the targets cannot be separated from the seed.
     """
-    side, border = _closure(adj, seed, removable)
-    if side & targets:
+    side, _, border_mark, border = _closure(nbrs, seed, removable)
+    if any(side[t] for t in targets):
         return None
-    target_side = _reach(adj, targets, border)
-    return frozenset(b for b in border if adj[b] & target_side)
+    reached = _reach(nbrs, targets, border_mark)
+    return [b for b in border if any(reached[u] == 2 for u in nbrs[b])]
 
 
 def _separator_search(
-    adj: Adjacency, xs: set[str], ys: set[str], removable: set[str]
-) -> Iterator[frozenset[str] | None]:
+    nbrs: Neighbours, xs: list[int], ys: list[int], removable: bytes | bytearray
+) -> Iterator[list[int] | None]:
     """The backtracking search behind :func:`enumerate_minimal_separators`.
 
     Yields each minimal separator once, and ``None`` after each linear-time
     step (one closure of the x side and one search of the y side) that
     produced none, so tests can measure the delay in steps.
     """
-    stack: list[tuple[set[str], tuple[str, ...]]] = [(set(xs), ())]
+    stack: list[tuple[list[int], tuple[int, ...]]] = [(list(xs), ())]
     while stack:
         seed, forced = stack.pop()
         while True:
-            side, border = _closure(adj, seed, removable)
-            if side & ys:  # the x side touches the y side: nothing separates
+            side, members, border_mark, border = _closure(nbrs, seed, removable)
+            if any(side[y] for y in ys):  # the x side touches the y side: nothing separates
+                ok = False
                 break
-            y_side = _reach(adj, ys, border)
-            touching = {b for b in border if not y_side.isdisjoint(adj[b])}
-            if touching == border or not all(f in touching for f in forced):
+            reached = _reach(nbrs, ys, border_mark)
+            touching = {b for b in border if any(reached[u] == 2 for u in nbrs[b])}
+            ok = all(f in touching for f in forced)
+            if not ok or len(touching) == len(border):
                 break
             yield None
-            seed = side | border.difference(touching)  # these lie on the x side of every answer
-        if side & ys or not all(f in touching for f in forced):
+            # Border vertices that miss the y side lie on the x side of every answer.
+            seed = members + [b for b in border if b not in touching]
+        if not ok:
             yield None  # no minimal separator in this branch
             continue
         # border = N(D) is a minimal separator containing every forced vertex.
-        yield frozenset(border)
-        undecided = sorted(border.difference(forced))
+        yield border
+        undecided = sorted(set(border).difference(forced))
         for i, v in enumerate(undecided):  # the branches where v joins the x side
-            stack.append((side | {v}, forced + tuple(undecided[:i])))
+            stack.append((members + [v], forced + tuple(undecided[:i])))
 
 
 def enumerate_minimal_separators(
-    adj: Adjacency, xs: set[str], ys: set[str], removable: set[str]
-) -> Iterator[frozenset[str]]:
+    adj: Adjacency, xs: Iterable[Hashable], ys: Iterable[Hashable], removable: Iterable[Hashable]
+) -> Iterator[frozenset]:
     """All inclusion-minimal xs-ys separators using removable vertices only, with polynomial delay.
+
+    ``adj`` maps each vertex to its neighbours (undirected, symmetric).
 
     Backtracking over the vertices bordering the x side, in the manner of
     Takata (2010, "Space-optimal, backtracking algorithms to list the
@@ -160,18 +194,39 @@ def enumerate_minimal_separators(
     2|R| + 1 linear-time steps separate two outputs: O(|R| (|V| + |E|))
     delay.  Iterative (explicit stack), no recursion.
     """
-    for sep in _separator_search(adj, xs, ys, removable):
+    nbrs, number, vertices = _numbered(adj)
+    removable_mask = bytearray(len(vertices))
+    for r in removable:
+        removable_mask[number[r]] = 1
+    xs_ids = [number[x] for x in xs]
+    ys_ids = [number[y] for y in ys]
+    for sep in _separator_search(nbrs, xs_ids, ys_ids, removable_mask):
         if sep is not None:
-            yield sep
+            yield frozenset(vertices[i] for i in sep)
 
 
-def _adjustment_problem(G: nx.DiGraph, X, Y, measured) -> tuple[Adjacency, set[str], set[str], set[str]]:
+def _numbered(adj: Adjacency) -> tuple[Neighbours, dict, list]:
+    """Number the vertices of a mapping adjacency 0..N-1."""
+    vertices = list(adj)
+    number = {v: i for i, v in enumerate(vertices)}
+    nbrs = [[number[u] for u in adj[v]] for v in vertices]
+    return nbrs, number, vertices
+
+
+def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
+    """The moral graph of the ancestral proper back-door graph over G's index,
+    the exposures and outcomes as index numbers, and the removable marks."""
     X, Y = _roles(G, X, Y)
     cn = proper_causal_nodes(G, X, Y)
     forb = forbidden(G, X, Y)
-    adj = moral_ancestral_graph(G, X | Y, proper_backdoor_skip(X, cn))
-    removable = (set(measured) & adj.keys()) - X - Y - forb
-    return adj, X, Y, removable
+    ix = indexed(G)
+    nbrs, vertices = _moral_ids(ix, X | Y, proper_backdoor_skip(X, cn))
+    names, measured, excluded = ix.names, set(measured), X | Y | forb
+    removable = bytearray(ix.n)  # measured, in the ancestral set, not X, Y or forbidden
+    for v in vertices:
+        if names[v] in measured and names[v] not in excluded:
+            removable[v] = 1
+    return ix, nbrs, vertices, ix.ids(X), ix.ids(Y), removable
 
 
 def minimal_adjustment_sets(
@@ -186,36 +241,40 @@ def minimal_adjustment_sets(
     Valid sets are the separators of X and Y in the proper back-door graph
     that avoid forb(X, Y) (van der Zander et al. 2019); the minimal ones are
     the minimal vertex separators of the moralised ancestral proper back-door
-    graph restricted to removable vertices (see module docstring).  Stops
+    graph restricted to removable vertices (see module docstring), listed
+    with polynomial delay (:func:`enumerate_minimal_separators`).  Stops
     after ``max_sets`` sets when given.
     """
-    adj, X, Y, removable = _adjustment_problem(G, X, Y, measured)
+    ix, nbrs, _, xs, ys, removable = _adjustment_problem(G, X, Y, measured)
+    names = ix.names
     count = 0
-    for sep in enumerate_minimal_separators(adj, X, Y, removable):
+    for sep in _separator_search(nbrs, xs, ys, removable):
+        if sep is None:
+            continue
         if max_sets is not None and count >= max_sets:
             return
         count += 1
-        yield sep
+        yield frozenset(names[i] for i in sep)
 
 
-def _min_vertex_cut(adj: Adjacency, xs: set[str], ys: set[str], removable: set[str]) -> frozenset[str] | None:
+def _min_vertex_cut(nbrs: Neighbours, vertices: list[int], xs: list[int], ys: list[int], removable) -> list[int] | None:
     """Minimum xs-ys vertex cut with unit cost on removable vertices, infinite elsewhere."""
-    if _close_to(adj, xs, ys, removable) is None:
+    if _close_to(nbrs, xs, ys, removable) is None:
         return None
     flow = nx.DiGraph()
-    for v in adj:
-        if v in removable:
+    for v in vertices:
+        if removable[v]:
             flow.add_edge((v, 0), (v, 1), capacity=1)
         else:
             flow.add_edge((v, 0), (v, 1))  # no capacity attribute = infinite
-        for u in adj[v]:
+        for u in nbrs[v]:
             flow.add_edge((v, 1), (u, 0))
     for x in xs:
         flow.add_edge("source", (x, 0))
     for y in ys:
         flow.add_edge((y, 1), "sink")
     _, (source_side, _) = nx.minimum_cut(flow, "source", "sink")
-    return frozenset(v for v in removable if (v, 0) in source_side and (v, 1) not in source_side)
+    return [v for v in vertices if removable[v] and (v, 0) in source_side and (v, 1) not in source_side]
 
 
 def smallest_adjustment_set(
@@ -223,8 +282,9 @@ def smallest_adjustment_set(
 ) -> frozenset[str] | None:
     """A valid adjustment set of minimum size: a minimum vertex cut of the moralised
     ancestral proper back-door graph (van der Zander et al. 2019); None if none exists."""
-    adj, X, Y, removable = _adjustment_problem(G, X, Y, measured)
-    return _min_vertex_cut(adj, X, Y, removable)
+    ix, nbrs, vertices, xs, ys, removable = _adjustment_problem(G, X, Y, measured)
+    cut = _min_vertex_cut(nbrs, vertices, xs, ys, removable)
+    return None if cut is None else frozenset(ix.names[v] for v in cut)
 
 
 def minimal_separator(G: nx.DiGraph, a: str, b: str, measured: Iterable[str]) -> frozenset[str] | None:
@@ -236,9 +296,12 @@ def minimal_separator(G: nx.DiGraph, a: str, b: str, measured: Iterable[str]) ->
     _as_set(G, {a, b})
     if a == b or arrow_between(G, a, b):
         return None
-    adj = moral_ancestral_graph(G, {a, b})
-    removable = (set(measured) & adj.keys()) - {a, b}
-    return _close_to(adj, {a}, {b}, removable)
+    ix = indexed(G)
+    nbrs, _ = _moral_ids(ix, {a, b})
+    removable = ix.mask(v for v in measured if v in ix.index)
+    removable[ix.index[a]] = removable[ix.index[b]] = 0
+    sep = _close_to(nbrs, [ix.index[a]], [ix.index[b]], removable)
+    return None if sep is None else frozenset(ix.names[v] for v in sep)
 
 
 def implied_independencies(G: nx.DiGraph, measured: Iterable[str]) -> list[tuple[str, str, frozenset[str]]]:
