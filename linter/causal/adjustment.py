@@ -26,6 +26,7 @@ from __future__ import annotations
 
 import weakref
 from collections.abc import Iterable
+from itertools import compress
 
 import networkx as nx
 
@@ -36,7 +37,9 @@ from .dsep import (
     _check_sets,
     _state_search,
     ancestor_mask,
+    ancestor_mask_ids,
     ancestors_cut,
+    connected_marks,
     d_separated_cut,
     new_tree,
     path_is_causal,
@@ -47,7 +50,7 @@ from .dsep import (
     walk_to,
 )
 from .graph import _as_set, ancestors, descendants
-from .indexed import KEEP_3, MaskView, closure, indexed
+from .indexed import KEEP_3, MaskView, both, closure, combine, indexed
 
 
 def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str], set[str]]:
@@ -88,8 +91,13 @@ def proper_causal_nodes(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> se
     path.  Linear time (and computed once per graph and question).
     """
     X, Y = _roles(G, X, Y)
+    return set(_cn_cached(G, X, Y))
+
+
+def _cn_cached(G: nx.DiGraph, X: set[str], Y: set[str]) -> frozenset[str]:
+    """cn(X, Y) as the cached frozenset (internal callers must not change it)."""
     sets = (frozenset(X), frozenset(Y))
-    return set(_per_graph(G, "cn", sets, lambda: _proper_causal_nodes(G, X, Y)))
+    return _per_graph(G, "cn", sets, lambda: _proper_causal_nodes(G, X, Y))
 
 
 def _descendants_cached(G: nx.DiGraph, nodes: set[str]) -> frozenset[str]:
@@ -99,7 +107,7 @@ def _descendants_cached(G: nx.DiGraph, nodes: set[str]) -> frozenset[str]:
 
 def _forbidden_cached(G: nx.DiGraph, X: set[str], Y: set[str]) -> frozenset[str]:
     sets = (frozenset(X), frozenset(Y))
-    return _per_graph(G, "forb", sets, lambda: _descendants_cached(G, proper_causal_nodes(G, X, Y)))
+    return _per_graph(G, "forb", sets, lambda: _descendants_cached(G, _cn_cached(G, X, Y)))
 
 
 def _proper_causal_nodes(G: nx.DiGraph, X: set[str], Y: set[str]) -> set[str]:
@@ -126,7 +134,7 @@ def forbidden(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:
     return set(_forbidden_cached(G, X, Y))
 
 
-def proper_backdoor_skip(X: set[str], cn: set[str]):
+def proper_backdoor_skip(X: set[str], cn: Iterable[str]):
     """Edge predicate of the proper back-door graph: drop x -> w for x in X, w in cn.
 
     The first arrow of a proper causal path is exactly such an arrow, and
@@ -138,7 +146,7 @@ def proper_backdoor_skip(X: set[str], cn: set[str]):
 def proper_backdoor_graph(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> nx.DiGraph:
     """A copy of G without the first arrow of every proper causal path (small graphs, display)."""
     X, Y = _roles(G, X, Y)
-    cn = proper_causal_nodes(G, X, Y)
+    cn = _cn_cached(G, X, Y)
     H = G.copy()
     H.remove_edges_from([(x, w) for x in X for w in list(G._succ[x]) if w in cn])
     return H
@@ -157,7 +165,7 @@ def is_valid_adjustment(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: It
     Z = _as_set(G, Z)
     if Z & (X | Y):
         return False
-    cn = proper_causal_nodes(G, X, Y)
+    cn = _cn_cached(G, X, Y)
     if cn and not _forbidden_cached(G, X, Y).isdisjoint(Z):
         return False
     return d_separated_cut(G, X, Y, Z, proper_backdoor_skip(X, cn))
@@ -208,7 +216,7 @@ def open_noncausal_path(
     X, Y = _roles(G, X, Y)
     X, Y, Z = _check_sets(G, X, Y, Z)
     q = _Query(G, X, Y, Z)
-    cn = proper_causal_nodes(G, X, Y)
+    cn = _cn_cached(G, X, Y)
     cn_mask = q.ix.mask(cn)
     # Types (a) and (b): every first step except x -> w with w in cn.
     roots = [r for r in start_roots(q.ix, q.xs, q.x_mask, cn_mask) if r[3] == 0]
@@ -290,10 +298,9 @@ def _meet_at_collider(q: _Query, targets: set[str], trees: _MeetTrees):
     order and each check costs the length of the walk.
     """
     ix = q.ix
-    for c in sorted(targets):
-        i = ix.index[c]
-        if not trees.meet_at(i):
-            continue
+    index = ix.index
+    for c in sorted(c for c in targets if trees.meet_at(index[c])):
+        i = index[c]
         walk = walk_to(ix, trees.tree_x, i, DOWN) + list(reversed(walk_to(ix, trees.tree_y, i, DOWN)))[1:]
         path = _first_good(_shortcuts(walk), lambda p: q.genuine(p, targets))
         if path is not None:
@@ -370,7 +377,7 @@ def collider_bias_paths(
         if z not in Z:
             raise ValueError(f"{z!r} is not in the adjustment set")
     q = _Query(G, X, Y, Z)
-    cn_mask = q.ix.mask(proper_causal_nodes(G, X, Y))
+    cn_mask = q.ix.mask(_cn_cached(G, X, Y))
     trees: _MeetTrees | None = None
     fallback: list[list[str] | None] = []
     out: dict[str, tuple[list[str], str] | None] = {}
@@ -410,8 +417,27 @@ def canonical_adjustment(
 def adjustment_exists(
     G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], measured: Iterable[str]
 ) -> bool:
-    """A valid set among measured variables exists iff the canonical set is valid."""
-    return is_valid_adjustment(G, X, Y, canonical_adjustment(G, X, Y, measured))
+    """A valid set among measured variables exists iff the canonical set is valid.
+
+    The same test as ``is_valid_adjustment(G, X, Y, canonical_adjustment(...))``,
+    done on mark arrays: the canonical set of a large diagram holds most of its
+    variables, so building it as a set of names would cost more than the search.
+    """
+    X, Y = _roles(G, X, Y)
+    ix = indexed(G)
+    cn = _cn_cached(G, X, Y)
+    index = ix.index
+    measured_mask = ix.mask(v for v in measured if v in index)
+    # An(X ∪ Y) ∩ measured, minus X, Y and forb(X, Y): no forbidden variable,
+    # so the validity test is d-separation in the proper back-door graph.
+    canon = combine(
+        both(ancestor_mask(ix, X | Y), measured_mask),
+        ix.mask(X | Y),
+        ix.mask(_forbidden_cached(G, X, Y)) if cn else bytes(ix.n),
+    )
+    cut = proper_backdoor_skip(X, cn)
+    anc = ancestor_mask_ids(ix, compress(range(ix.n), canon), cut)
+    return not connected_marks(ix, ix.ids(X), ix.mask(Y), canon, anc, cut, proper=True)
 
 
 def instrument_like(

@@ -123,31 +123,33 @@ def _state_search(
         v, d, f = state >> 3, state >> 2 & 1, state & 3
         if no_expand is not None and no_expand[v]:
             continue
-        # Same moves, in the same order, as the module docstring lists.
+        # Same moves, in the same order, as the module docstring lists:
+        # from an UP state parents then children, from a DOWN state children
+        # (unless v is in Z) then parents (if v is in An(Z)).
         up_flag = f & 2  # a move against an arrow ends "still directed"
         if d == DOWN and colliders is not None and colliders[v]:
             up_flag = 2
         if d == UP:
             if inz[v]:
                 continue
-            moves = [(p, UP, up_flag) for p in pred[v]]
-            moves += [(c, DOWN, f) for c in succ[v]]
+            steps = ((pred[v], UP << 2 | up_flag, up_flag), (succ[v], DOWN << 2 | f, f))
+        elif inz[v]:
+            steps = ((pred[v], UP << 2 | up_flag, up_flag),) if anc[v] else ()
+        elif anc[v]:
+            steps = ((succ[v], DOWN << 2 | f, f), (pred[v], UP << 2 | up_flag, up_flag))
         else:
-            moves = [(c, DOWN, f) for c in succ[v]] if not inz[v] else []
-            if anc[v]:
-                moves += [(p, UP, up_flag) for p in pred[v]]
-        for w, d2, f2 in moves:
-            if no_enter[w]:
-                continue
-            nxt = w << 3 | d2 << 2 | f2
-            if parent[nxt] != -1:
-                continue
-            parent[nxt] = state
-            if targets is not None and targets[w] and f2 == accept_flag:
-                result = accepted(nxt)
-                if result is not None:
-                    return result
-            queue.append(nxt)
+            steps = ((succ[v], DOWN << 2 | f, f),)
+        for nodes, low_bits, f2 in steps:
+            for w in nodes:
+                nxt = w << 3 | low_bits
+                if parent[nxt] != -1 or no_enter[w]:
+                    continue
+                parent[nxt] = state
+                if targets is not None and targets[w] and f2 == accept_flag:
+                    result = accepted(nxt)
+                    if result is not None:
+                        return result
+                queue.append(nxt)
     return None
 
 
@@ -232,8 +234,12 @@ def start_roots(ix: Indexed, xs: Iterable[int], no_enter: bytes | bytearray, dir
 
 def ancestor_mask(ix: Indexed, nodes: Iterable[str], cut: ArrowCut | None = None) -> bytearray:
     """An(nodes) as a mark array, in G without the arrows of ``cut``."""
+    return ancestor_mask_ids(ix, ix.ids(nodes), cut)
+
+
+def ancestor_mask_ids(ix: Indexed, seeds: Iterable[int], cut: ArrowCut | None = None) -> bytearray:
+    """:func:`ancestor_mask` of variables given by index."""
     mark = bytearray(ix.n)
-    seeds = ix.ids(nodes)
     if cut is None:
         closure(ix.pred, seeds, mark)
         return mark
@@ -367,7 +373,21 @@ def _connected_cut(
     proper: bool,
 ) -> bool:
     """True when some y is reachable from xs by the Bayes-ball moves of
-    :func:`_state_search` in G without the arrows of ``cut``.
+    :func:`_state_search` in G without the arrows of ``cut``."""
+    inz = ix.mask(zs)
+    return connected_marks(ix, ix.ids(xs), ix.mask(ys), inz, ancestor_mask(ix, zs, cut), cut, proper)
+
+
+def connected_marks(
+    ix: Indexed,
+    xs: list[int],
+    isy: bytes | bytearray,
+    inz: bytes | bytearray,
+    anc: bytes | bytearray,
+    cut: ArrowCut | None,
+    proper: bool,
+) -> bool:
+    """:func:`_connected_cut` with Y and Z as mark arrays and An(Z) given.
 
     The same moves and visited states as the general search, written as a
     two-stack loop with two visited marks (no states, no parent pointers, no
@@ -375,16 +395,16 @@ def _connected_cut(
     d-separation, validity and instrument tests on large diagrams.
     """
     succ, pred = ix.succ, ix.pred
-    anc = ancestor_mask(ix, zs, cut)
-    inz, isy = ix.mask(zs), ix.mask(ys)
     if cut is None:
         masks = None
         tails = into = bytes(ix.n)
     else:
         masks = _CutMasks(ix, cut)
         tails, into = masks.tails, masks.into
-    up_stack = ix.ids(xs)
-    seen_up = ix.mask(xs)
+    up_stack = list(xs)
+    seen_up = bytearray(ix.n)
+    for x in xs:
+        seen_up[x] = 1
     # proper: the exposures are never re-entered; otherwise they may be
     # entered along an arrow (entering one against an arrow repeats its start).
     seen_down = bytearray(seen_up) if proper else bytearray(ix.n)

@@ -30,7 +30,7 @@ KEEP_3 = bytes(1 if i == 3 else 0 for i in range(256))  # both bits 1 and 2 set
 class Indexed:
     """Variables numbered 0..n-1 in the graph's node order, with parent/child arrays."""
 
-    __slots__ = ("names", "index", "succ", "pred", "n", "__weakref__")
+    __slots__ = ("names", "index", "succ", "pred", "n", "_masks", "__weakref__")
 
     def __init__(self, G: nx.DiGraph):
         self.names: list[str] = list(G._succ)
@@ -39,13 +39,26 @@ class Indexed:
         self.succ = [array("i", map(get, G._succ[v])) for v in self.names]
         self.pred = [array("i", map(get, G._pred[v])) for v in self.names]
         self.n = len(self.names)
+        # Marks of frozensets that the callers keep (cn, forb(X, Y), an ArrowCut's
+        # sets), by identity; the frozenset is held so its id stays its own.
+        self._masks: dict[int, tuple[frozenset, bytes]] = {}
 
     def ids(self, nodes: Iterable[str]) -> list[int]:
         index = self.index
         return [index[v] for v in nodes]
 
     def mask(self, nodes: Iterable[str]) -> bytearray:
-        """A bytearray with 1 at each of ``nodes`` (names)."""
+        """A bytearray with 1 at each of ``nodes`` (names); a new one every call."""
+        if type(nodes) is frozenset and len(nodes) > 64:
+            kept = self._masks.get(id(nodes))
+            if kept is None or kept[0] is not nodes:
+                if len(self._masks) > 256:
+                    self._masks.clear()
+                kept = self._masks[id(nodes)] = (nodes, bytes(self._fresh_mask(nodes)))
+            return bytearray(kept[1])
+        return self._fresh_mask(nodes)
+
+    def _fresh_mask(self, nodes: Iterable[str]) -> bytearray:
         m = bytearray(self.n)
         index = self.index
         for v in nodes:
@@ -55,6 +68,21 @@ class Indexed:
     def names_in(self, mask: bytes | bytearray) -> set[str]:
         """The names whose mark is not zero."""
         return set(compress(self.names, mask))
+
+
+def combine(keep: bytes | bytearray, *drop: bytes | bytearray) -> bytearray:
+    """Marks set in ``keep`` and in none of ``drop`` (0/1 marks; computed on whole
+    integers, so in C rather than byte by byte)."""
+    result = int.from_bytes(keep, "little")
+    for d in drop:
+        result &= ~int.from_bytes(d, "little")
+    return bytearray(result.to_bytes(len(keep), "little"))
+
+
+def both(a: bytes | bytearray, b: bytes | bytearray) -> bytearray:
+    """Marks set in both (0/1 marks)."""
+    n = len(a)
+    return bytearray((int.from_bytes(a, "little") & int.from_bytes(b, "little")).to_bytes(n, "little"))
 
 
 _CACHE: weakref.WeakKeyDictionary[nx.DiGraph, Indexed] = weakref.WeakKeyDictionary()

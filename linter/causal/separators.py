@@ -23,7 +23,13 @@ from itertools import compress
 
 import networkx as nx
 
-from .adjustment import _roles, forbidden, proper_backdoor_skip, proper_causal_nodes
+from .adjustment import (
+    _cn_cached,
+    _forbidden_cached,
+    _roles,
+    proper_backdoor_skip,
+    proper_causal_nodes,
+)
 from .dsep import ArrowCut, SkipEdge, _CutMasks, ancestor_mask, arrow_between, d_separated_cut
 from .graph import _as_set
 from .indexed import Indexed, indexed
@@ -217,8 +223,8 @@ def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
     """The moral graph of the ancestral proper back-door graph over G's index,
     the exposures and outcomes as index numbers, and the removable marks."""
     X, Y = _roles(G, X, Y)
-    cn = proper_causal_nodes(G, X, Y)
-    forb = forbidden(G, X, Y)
+    cn = _cn_cached(G, X, Y)
+    forb = _forbidden_cached(G, X, Y)
     ix = indexed(G)
     nbrs, vertices = _moral_ids(ix, X | Y, proper_backdoor_skip(X, cn))
     names, measured, excluded = ix.names, set(measured), X | Y | forb
