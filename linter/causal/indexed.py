@@ -25,6 +25,7 @@ import networkx as nx
 
 # bytes.translate tables over marks holding bit flags
 KEEP_3 = bytes(1 if i == 3 else 0 for i in range(256))  # both bits 1 and 2 set
+AS_WALLS = bytes(3 if i else 0 for i in range(256))  # any mark -> both bits (a wall for bit 2)
 
 
 class Indexed:

@@ -32,7 +32,7 @@ from .adjustment import (
 )
 from .dsep import ArrowCut, SkipEdge, _CutMasks, ancestor_mask, arrow_between, d_separated_cut
 from .graph import _as_set
-from .indexed import Indexed, indexed
+from .indexed import AS_WALLS, Indexed, closure, indexed
 
 Adjacency = Mapping[Hashable, Iterable[Hashable]]
 # Undirected adjacency over vertices 0..N-1 (the graph's index numbers).
@@ -100,20 +100,10 @@ def _closure(nbrs: Neighbours, seed: Iterable[int], removable: bytes | bytearray
 
 
 def _reach(nbrs: Neighbours, start: Iterable[int], walls: bytes | bytearray) -> bytearray:
-    """Marks: 2 on everything reachable from ``start`` without entering a wall,
-    1 on the walls (``walls`` marks them with 1), 0 elsewhere."""
-    seen = bytearray(walls)
-    stack = []
-    for s in start:
-        if not seen[s]:
-            seen[s] = 2
-            stack.append(s)
-    while stack:
-        v = stack.pop()
-        for u in nbrs[v]:
-            if not seen[u]:
-                seen[u] = 2
-                stack.append(u)
+    """Marks: 2 on everything reachable from ``start`` without entering a wall
+    (``walls`` marks them with 1), 3 on the walls, 0 elsewhere."""
+    seen = bytearray(walls.translate(AS_WALLS))
+    closure(nbrs, start, seen, 2)  # type: ignore[arg-type]
     return seen
 
 
