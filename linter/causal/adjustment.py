@@ -50,7 +50,7 @@ from .dsep import (
     walk_to,
 )
 from .graph import _as_set, ancestors, descendants
-from .indexed import KEEP_3, MaskView, both, closure, combine, indexed
+from .indexed import AS_WALLS, WALL_UNLESS_2, MaskView, both, closure, combine, indexed
 
 
 def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str], set[str]]:
@@ -113,14 +113,16 @@ def _forbidden_cached(G: nx.DiGraph, X: set[str], Y: set[str]) -> frozenset[str]
 def _proper_causal_nodes(G: nx.DiGraph, X: set[str], Y: set[str]) -> set[str]:
     ix = indexed(G)
     xs = ix.ids(X)
-    mark = ix.mask(X)  # bit 1: reached from X along arrows; X is a wall
-    closure(ix.succ, [c for x in xs for c in ix.succ[x]], mark, 1)
-    for x in xs:
-        mark[x] |= 2  # bit 2: reaches Y along arrows, avoiding X
+    mark = ix.mask(X)
+    mark = mark.translate(AS_WALLS)  # X is a wall for both searches
+    # bit 2: reaches Y along arrows without passing through X
     closure(ix.pred, ix.ids(Y), mark, 2)
-    for x in xs:
-        mark[x] = 0
-    return ix.names_in(mark.translate(KEEP_3))
+    # bit 1, entering only variables with bit 2: reached from X along arrows
+    # inside An(Y); what this search newly marks is cn(X, Y).
+    mark = mark.translate(WALL_UNLESS_2)
+    found = closure(ix.succ, [c for x in xs for c in ix.succ[x]], mark, 1)
+    names = ix.names
+    return {names[i] for i in found}
 
 
 def mediators(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:
@@ -249,15 +251,15 @@ class _Query:
         return colliders is None or _collider_in(G, path, colliders) is not None
 
 
-def _typed_search(G, q: _Query, cn_mask: bytearray, collider_targets: set[str] | None):
+def _typed_search(G, q: _Query, cn_mask: bytearray, collider_targets=None, colliders=None):
     """Flagged search for type (c) paths and for collider-bias paths.
 
     Flag bit 1: the walk is still a directed path from its exposure.
-    Flag bit 2: the walk has turned at a collider in ``collider_targets``.
+    Flag bit 2: the walk has turned at a collider in ``collider_targets`` (a
+    name container; ``colliders`` are the same variables as marks).
     A walk is accepted at an outcome with bit 1 clear and bit 2 as asked.
     """
     roots = start_roots(q.ix, q.xs, q.x_mask, cn_mask)
-    colliders = None if collider_targets is None else q.ix.mask(collider_targets)
     # Shortcutting a flagged walk can drop the node that set the flag, so every
     # accepting walk is re-checked, in search order, until one gives a good
     # path (still one linear search, stopped at the first good one).
@@ -290,7 +292,20 @@ class _MeetTrees:
         return tree_has(self.tree_x, c, DOWN) and tree_has(self.tree_y, c, DOWN)
 
 
-def _meet_at_collider(q: _Query, targets: set[str], trees: _MeetTrees):
+class _Targets:
+    """The colliders sought (An(z)): their numbers, their marks, and a name view."""
+
+    __slots__ = ("ids", "mark", "view")
+
+    def __init__(self, ix, ids: list[int], mark: bytearray):
+        self.ids, self.mark, self.view = ids, mark, MaskView(ix, mark)
+
+    def in_name_order(self, ix, keep=None) -> list[int]:
+        names = ix.names
+        return sorted((i for i in self.ids if keep is None or keep(i)), key=names.__getitem__)
+
+
+def _meet_at_collider(q: _Query, targets: _Targets, trees: _MeetTrees):
     """Join an open walk from X and an open walk from Y that both enter a
     collider c (an ancestor of z) along an arrow; shortcut and re-check.
 
@@ -298,17 +313,15 @@ def _meet_at_collider(q: _Query, targets: set[str], trees: _MeetTrees):
     order and each check costs the length of the walk.
     """
     ix = q.ix
-    index = ix.index
-    for c in sorted(c for c in targets if trees.meet_at(index[c])):
-        i = index[c]
+    for i in targets.in_name_order(ix, trees.meet_at):
         walk = walk_to(ix, trees.tree_x, i, DOWN) + list(reversed(walk_to(ix, trees.tree_y, i, DOWN)))[1:]
-        path = _first_good(_shortcuts(walk), lambda p: q.genuine(p, targets))
+        path = _first_good(_shortcuts(walk), lambda p: q.genuine(p, targets.view))
         if path is not None:
             return path
     return None
 
 
-def _meet_by_parents(q: _Query, targets: set[str], trees: _MeetTrees) -> list[str] | None:
+def _meet_by_parents(q: _Query, targets: _Targets, trees: _MeetTrees) -> list[str] | None:
     """Like :func:`_meet_at_collider`, but the two walks may enter c from other
     parents than the ones their search trees recorded.
 
@@ -321,10 +334,9 @@ def _meet_by_parents(q: _Query, targets: set[str], trees: _MeetTrees) -> list[st
     walk read from the trees), so it stays linear in the size of the graph.
     """
     ix = q.ix
-    index, names = ix.index, ix.names
+    names = ix.names
     budget = 8 * ix.n + 64
-    for c in sorted(targets):
-        i = index[c]
+    for i in targets.in_name_order(ix):
         ends_x = _walks_into(ix, trees.tree_x, i, q.inz, q.x_mask, bytes(ix.n))
         budget -= sum(map(len, ends_x))
         if not ends_x:
@@ -341,7 +353,7 @@ def _meet_by_parents(q: _Query, targets: set[str], trees: _MeetTrees) -> list[st
                 budget -= len(walk)
                 if budget < 0:
                     return None
-                path = _first_good(_shortcuts(walk), lambda p: q.genuine(p, targets))
+                path = _first_good(_shortcuts(walk), lambda p: q.genuine(p, targets.view))
                 if path is not None:
                     return path
     return None
@@ -443,18 +455,22 @@ def collider_bias_paths(
     for z in zs:
         if z in out:
             continue
-        targets = ancestors(G, {z})
+        # An(z), as the variables' numbers (for the loops) and as a name view
+        # (for the definitional checks), never as a set of names.
+        z_mark = bytearray(q.ix.n)
+        above_z = _Targets(q.ix, closure(q.ix.pred, [q.ix.index[z]], z_mark), z_mark)
+        targets = above_z.view
         # The joined trees are shared by every z, so they are tried first; the
         # flagged search (one per z, over four times as many states) only when
         # they give no path.  Each search is sound, so the order changes which
         # path is shown, never whether one is found.
         if trees is None:
             trees = _MeetTrees(q)
-        path = _meet_at_collider(q, targets, trees)
+        path = _meet_at_collider(q, above_z, trees)
         if path is None:
-            path = _meet_by_parents(q, targets, trees)
+            path = _meet_by_parents(q, above_z, trees)
         if path is None:
-            path = _typed_search(G, q, cn_mask, targets)
+            path = _typed_search(G, q, cn_mask, targets, z_mark)
         if path is None:
             # Fall back on the exact open non-causal path search: when its
             # path turns at a collider above z, that path is the witness.
@@ -488,7 +504,9 @@ def adjustment_exists(
     ix = indexed(G)
     cn = _cn_cached(G, X, Y)
     index = ix.index
-    measured_mask = ix.mask(v for v in measured if v in index)
+    if not (isinstance(measured, frozenset) and index.keys() >= measured):
+        measured = frozenset(v for v in measured if v in index)
+    measured_mask = ix.mask(measured)  # kept by the index for the diagram's own set
     # An(X ∪ Y) ∩ measured, minus X, Y and forb(X, Y): no forbidden variable,
     # so the validity test is d-separation in the proper back-door graph.
     canon = combine(

@@ -24,7 +24,7 @@ from itertools import compress
 import networkx as nx
 
 # bytes.translate tables over marks holding bit flags
-KEEP_3 = bytes(1 if i == 3 else 0 for i in range(256))  # both bits 1 and 2 set
+WALL_UNLESS_2 = bytes(i if i & 2 else i | 1 for i in range(256))  # bit 1 set where bit 2 is not
 AS_WALLS = bytes(3 if i else 0 for i in range(256))  # any mark -> both bits (a wall for bit 2)
 
 
