@@ -42,6 +42,7 @@ from linter.causal import (
     minimal_adjustment_sets,
     minimal_separator,
     open_noncausal_path,
+    proper_causal_nodes,
     smallest_adjustment_set,
 )
 from linter.causal.separators import (
@@ -298,3 +299,26 @@ def test_minimal_separator_and_implied_independencies(dag):
                 for sub in combinations(sorted(sep), k):
                     assert not nx.is_d_separator(G, {a}, {b}, set(sub))
             assert listed[(a, b)] == sep
+
+
+def test_answers_follow_a_graph_edited_between_calls():
+    """The integer index and the cn/forb caches live in the graph's networkx cache,
+    which networkx empties on every edit; a view is never cached.  Facts of the
+    trade (common practice): a -> m -> b is blocked by m, a fork or chain opens
+    when the blocking variable leaves the set, a new arrow a -> b connects."""
+    G = nx.DiGraph([("a", "m"), ("m", "b")])
+    assert d_separated(G, {"a"}, {"b"}, {"m"})
+    assert proper_causal_nodes(G, {"a"}, {"b"}) == {"m", "b"}
+    G.add_edge("a", "b")
+    assert not d_separated(G, {"a"}, {"b"}, {"m"})
+    G.remove_edge("a", "b")
+    G.remove_edge("m", "b")
+    assert d_separated(G, {"a"}, {"b"}, set())
+    assert proper_causal_nodes(G, {"a"}, {"b"}) == set()
+    G.add_edges_from([("c", "a"), ("c", "b")])
+    view = G.subgraph(["a", "b", "c"])
+    assert not d_separated(view, {"a"}, {"b"}, set())
+    G.remove_edge("c", "b")
+    assert d_separated(view, {"a"}, {"b"}, set())
+    frozen = nx.freeze(nx.DiGraph(G))
+    assert d_separated(frozen, {"a"}, {"b"}, set()) and d_separated(frozen, {"a"}, {"b"}, {"c"})

@@ -24,7 +24,6 @@ A set that overlaps X or Y is never valid.  X and Y must be disjoint
 
 from __future__ import annotations
 
-import weakref
 from collections.abc import Iterable
 from itertools import compress
 
@@ -50,7 +49,7 @@ from .dsep import (
     walk_to,
 )
 from .graph import _as_set, ancestors, descendants
-from .indexed import AS_WALLS, WALL_UNLESS_2, MaskView, both, closure, combine, indexed
+from .indexed import AS_WALLS, WALL_UNLESS_2, MaskView, both, closure, combine, graph_cache, indexed
 
 
 def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str], set[str]]:
@@ -62,18 +61,17 @@ def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str],
 
 # cn(X, Y) is needed by almost every question about an analysis (validity,
 # forbidden set, witnesses, instruments), so it is kept per graph, together with
-# forb(X, Y) and De(X). Only frozen graphs (networkx.freeze; the model freezes
-# every diagram's graph) are cached, since they cannot change; graphs are held
-# weakly.
-_CN_CACHE: weakref.WeakKeyDictionary[nx.DiGraph, dict] = weakref.WeakKeyDictionary()
+# forb(X, Y) and De(X), in the graph's networkx cache next to its index (see
+# linter/causal/indexed.py: networkx empties it when the graph changes).
 
 
 def _per_graph(G: nx.DiGraph, kind: str, sets: tuple[frozenset[str], ...], compute) -> frozenset[str]:
     """Memoise ``compute()`` for this graph, question kind and node sets."""
-    if not nx.is_frozen(G):
+    cache = graph_cache(G)
+    if cache is None:
         return frozenset(compute())
-    key = (kind, sets)
-    per_graph = _CN_CACHE.setdefault(G, {})
+    key = (kind, sets, len(G._succ))
+    per_graph = cache.setdefault("sets", {})
     cached = per_graph.get(key)
     if cached is None:
         if len(per_graph) > 64:

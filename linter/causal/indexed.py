@@ -8,15 +8,17 @@ Here variable i's parents and children are ``array('i')`` of indices and the
 visited marks are ``bytearray``s, a few megabytes in all, so the cost per
 visited variable stays flat and each search is about three times faster.
 
-The index of a frozen graph (``networkx.freeze``; the model freezes every
-diagram's graph) is built once and kept while the graph lives.  An unfrozen
-graph could be edited between two calls, so its index is rebuilt on every
-call: still linear, only slower.
+The index is built once per graph and kept in the graph's
+``__networkx_cache__``, the dict networkx (3.3 and later) empties whenever
+the graph's nodes or arrows change through its methods, so an edited graph
+gets a fresh index.  (A view of a graph, a graph whose adjacency dicts are
+edited directly, or one whose ``__networkx_cache__`` is set to None, is
+indexed anew on every call.)
+The model freezes every diagram's graph (``networkx.freeze``).
 """
 
 from __future__ import annotations
 
-import weakref
 from array import array
 from collections.abc import Iterable
 from itertools import compress
@@ -31,7 +33,7 @@ AS_WALLS = bytes(3 if i else 0 for i in range(256))  # any mark -> both bits (a 
 class Indexed:
     """Variables numbered 0..n-1 in the graph's node order, with parent/child arrays."""
 
-    __slots__ = ("names", "index", "succ", "pred", "n", "_masks", "__weakref__")
+    __slots__ = ("names", "index", "succ", "pred", "n", "_masks")
 
     def __init__(self, G: nx.DiGraph):
         self.names: list[str] = list(G._succ)
@@ -86,16 +88,25 @@ def both(a: bytes | bytearray, b: bytes | bytearray) -> bytearray:
     return bytearray((int.from_bytes(a, "little") & int.from_bytes(b, "little")).to_bytes(n, "little"))
 
 
-_CACHE: weakref.WeakKeyDictionary[nx.DiGraph, Indexed] = weakref.WeakKeyDictionary()
+def graph_cache(G: nx.DiGraph) -> dict | None:
+    """dagward's part of ``G.__networkx_cache__`` (emptied by networkx when G
+    changes), or None when the graph has no such cache."""
+    cache = getattr(G, "__networkx_cache__", None)
+    if cache is None or getattr(G, "_graph", None) is not None:
+        # A view (subgraph, reverse, ...) changes with the graph under it, and
+        # nothing empties the view's own cache then: never keep anything for it.
+        return None
+    return cache.setdefault("dagward", {})
 
 
 def indexed(G: nx.DiGraph) -> Indexed:
-    """The index of G: kept for a frozen graph, rebuilt for one that may change."""
-    if not nx.is_frozen(G):
+    """The index of G, built once per version of the graph (see the module docstring)."""
+    cache = graph_cache(G)
+    if cache is None:
         return Indexed(G)
-    ix = _CACHE.get(G)
-    if ix is None:
-        ix = _CACHE[G] = Indexed(G)
+    ix = cache.get("index")
+    if ix is None or ix.n != len(G._succ):  # the count guards against direct edits
+        ix = cache["index"] = Indexed(G)
     return ix
 
 
