@@ -32,7 +32,7 @@ from collections.abc import Callable, Iterable
 import networkx as nx
 
 from .graph import _as_set, ancestors
-from .indexed import Indexed, closure, indexed
+from .indexed import Indexed, closure_rows, indexed
 
 UP = 0  # entered from a child, i.e. against the arrow
 DOWN = 1  # entered from a parent, i.e. along the arrow
@@ -241,8 +241,7 @@ def ancestor_mask_ids(ix: Indexed, seeds: Iterable[int], cut: ArrowCut | None = 
     """:func:`ancestor_mask` of variables given by index."""
     mark = bytearray(ix.n)
     if cut is None:
-        closure(ix.pred, seeds, mark)
-        return mark
+        return closure_rows(ix.rows()[1], seeds, mark)
     c = _CutMasks(ix, cut)
     pred, tails, into = ix.pred, c.tails, c.into
     stack = []
@@ -394,7 +393,8 @@ def connected_marks(
     flags) because only the yes/no answer is needed: this is the hot loop of
     d-separation, validity and instrument tests on large diagrams.
     """
-    succ, pred = ix.succ, ix.pred
+    pred = ix.pred
+    children, parents = ix.rows()
     if cut is None:
         masks = None
         tails = into = bytes(ix.n)
@@ -413,14 +413,14 @@ def connected_marks(
         while up_stack:
             v = up_stack.pop()
             # v is not in zs here: blocked states are never pushed.
-            for p in pred[v] if not into[v] else [p for p in pred[v] if not tails[p]]:
+            for p in parents(v) if not into[v] else [p for p in pred[v] if not tails[p]]:
                 if not seen_up[p]:
                     if isy[p]:
                         return True
                     seen_up[p] = 1
                     if not inz[p]:
                         up_stack.append(p)
-            for c in succ[v] if not tails[v] else masks.children(v):  # type: ignore[union-attr]
+            for c in children(v) if not tails[v] else masks.children(v):  # type: ignore[union-attr]
                 if not seen_down[c]:
                     if isy[c]:
                         return True
@@ -429,14 +429,14 @@ def connected_marks(
         while down_stack:
             v = down_stack.pop()
             if not inz[v]:
-                for c in succ[v] if not tails[v] else masks.children(v):  # type: ignore[union-attr]
+                for c in children(v) if not tails[v] else masks.children(v):  # type: ignore[union-attr]
                     if not seen_down[c]:
                         if isy[c]:
                             return True
                         seen_down[c] = 1
                         down_stack.append(c)
             if anc[v]:
-                for p in pred[v] if not into[v] else [p for p in pred[v] if not tails[p]]:
+                for p in parents(v) if not into[v] else [p for p in pred[v] if not tails[p]]:
                     if not seen_up[p]:
                         if isy[p]:
                             return True

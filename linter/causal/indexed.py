@@ -20,8 +20,8 @@ The model freezes every diagram's graph (``networkx.freeze``).
 from __future__ import annotations
 
 from array import array
-from collections.abc import Iterable
-from itertools import compress
+from collections.abc import Callable, Iterable, Sequence
+from itertools import accumulate, chain, compress
 
 import networkx as nx
 
@@ -33,7 +33,7 @@ AS_WALLS = bytes(3 if i else 0 for i in range(256))  # any mark -> both bits (a 
 class Indexed:
     """Variables numbered 0..n-1 in the graph's node order, with parent/child arrays."""
 
-    __slots__ = ("names", "index", "succ", "pred", "n", "_masks")
+    __slots__ = ("names", "index", "succ", "pred", "n", "_masks", "_rows")
 
     def __init__(self, G: nx.DiGraph):
         self.names: list[str] = list(G._succ)
@@ -45,6 +45,33 @@ class Indexed:
         # Marks of frozensets that the callers keep (cn, forb(X, Y), an ArrowCut's
         # sets), by identity; the frozenset is held so its id stays its own.
         self._masks: dict[int, tuple[frozenset, bytes]] = {}
+        self._rows: tuple | None = None
+
+    def rows(self) -> tuple[Callable[[int], Sequence[int]], Callable[[int], Sequence[int]]]:
+        """(children of v, parents of v) as functions, for the hottest loops.
+
+        On a large graph with many arrows per variable they read compressed
+        rows: all children in one array, variable v's from position at[v] to
+        at[v + 1] (likewise parents).  Four arrays instead of 2n small ones
+        take a few megabytes that stay in the processor's cache, so the time
+        per visited variable does not grow with the graph (measured: about the
+        same on 10,000 and 100,000 variables with ten arrows each, against
+        1.4-2x more with one array per variable).  Reading a row costs a
+        slice, which does not pay with few arrows per variable (a
+        100,000-variable diagram with two arrows each was 10-15% slower), so
+        below four arrows per variable ``self.succ[v]`` and ``self.pred[v]``
+        are read directly.  The choice depends on the graph's shape only, so
+        graphs of one shape and different sizes use the same layout.
+        """
+        if self._rows is None:
+            arrows = sum(map(len, self.succ))
+            if arrows >= 4 * self.n:
+                sf, so = _compressed(self.succ)
+                pf, po = _compressed(self.pred)
+                self._rows = (lambda v: sf[so[v] : so[v + 1]], lambda v: pf[po[v] : po[v + 1]])
+            else:
+                self._rows = (self.succ.__getitem__, self.pred.__getitem__)
+        return self._rows
 
     def ids(self, nodes: Iterable[str]) -> list[int]:
         index = self.index
@@ -80,6 +107,12 @@ def combine(keep: bytes | bytearray, *drop: bytes | bytearray) -> bytearray:
     for d in drop:
         result &= ~int.from_bytes(d, "little")
     return bytearray(result.to_bytes(len(keep), "little"))
+
+
+def _compressed(lists: list[array]) -> tuple[array, array]:
+    flat = array("i", chain.from_iterable(lists))
+    at = array("i", [0, *accumulate(map(len, lists))])
+    return flat, at
 
 
 def both(a: bytes | bytearray, b: bytes | bytearray) -> bytearray:
@@ -129,6 +162,21 @@ def closure(adjacency: list[array], seeds: Iterable[int], mark: bytearray, bit: 
                 stack.append(w)
                 visited.append(w)
     return visited
+
+
+def closure_rows(row: Callable[[int], Sequence[int]], seeds: Iterable[int], mark: bytearray) -> bytearray:
+    """:func:`closure` (bit 1) along ``row`` (one of :meth:`Indexed.rows`)."""
+    stack = []
+    for s in seeds:
+        if not mark[s]:
+            mark[s] = 1
+            stack.append(s)
+    while stack:
+        for w in row(stack.pop()):
+            if not mark[w]:
+                mark[w] = 1
+                stack.append(w)
+    return mark
 
 
 class MaskView:
