@@ -239,23 +239,15 @@ def ancestor_mask(ix: Indexed, nodes: Iterable[str], cut: ArrowCut | None = None
 
 def ancestor_mask_ids(ix: Indexed, seeds: Iterable[int], cut: ArrowCut | None = None) -> bytearray:
     """:func:`ancestor_mask` of variables given by index."""
-    mark = bytearray(ix.n)
-    if cut is None:
-        return closure_rows(ix.rows()[1], seeds, mark)
-    c = _CutMasks(ix, cut)
-    pred, tails, into = ix.pred, c.tails, c.into
-    stack = []
-    for s in seeds:
-        if not mark[s]:
-            mark[s] = 1
-            stack.append(s)
-    while stack:
-        v = stack.pop()
-        for p in pred[v] if not into[v] else [p for p in pred[v] if not tails[p]]:
-            if not mark[p]:
-                mark[p] = 1
-                stack.append(p)
-    return mark
+    parents = ix.rows()[1]
+    if cut is not None:  # skip the parents whose arrow into v is cut
+        c = _CutMasks(ix, cut)
+        pred, tails, into, all_parents = ix.pred, c.tails, c.into, parents
+
+        def parents(v: int):
+            return all_parents(v) if not into[v] else [p for p in pred[v] if not tails[p]]
+
+    return closure_rows(parents, seeds, bytearray(ix.n))
 
 
 def d_connecting_path(
