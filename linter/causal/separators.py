@@ -62,14 +62,6 @@ def _moral_ids(ix: Indexed, seeds: Iterable[str], cut: SkipEdge = None) -> tuple
     return nbrs, vertices
 
 
-def moral_ancestral_graph(G: nx.DiGraph, nodes: set[str], skip_edge: SkipEdge = None) -> dict[str, set[str]]:
-    """Undirected adjacency of the moral graph of G[An(nodes)] (arrows in skip_edge removed)."""
-    ix = indexed(G)
-    nbrs, vertices = _moral_ids(ix, _as_set(G, nodes), skip_edge)
-    names = ix.names
-    return {names[v]: {names[u] for u in nbrs[v]} for v in vertices}
-
-
 def _closure(nbrs: Neighbours, seed: Iterable[int], removable: bytes | bytearray):
     """The side grown from ``seed`` through non-removable vertices, and its removable border.
 
@@ -377,6 +369,5 @@ __all__ = [
     "implied_independencies",
     "minimal_adjustment_sets",
     "minimal_separator",
-    "moral_ancestral_graph",
     "smallest_adjustment_set",
 ]
