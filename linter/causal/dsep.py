@@ -239,15 +239,7 @@ def ancestor_mask(ix: Indexed, nodes: Iterable[str], cut: ArrowCut | None = None
 
 def ancestor_mask_ids(ix: Indexed, seeds: Iterable[int], cut: ArrowCut | None = None) -> bytearray:
     """:func:`ancestor_mask` of variables given by index."""
-    parents = ix.rows()[1]
-    if cut is not None:  # skip the parents whose arrow into v is cut
-        c = _CutMasks(ix, cut)
-        pred, tails, into, all_parents = ix.pred, c.tails, c.into, parents
-
-        def parents(v: int):
-            return all_parents(v) if not into[v] else [p for p in pred[v] if not tails[p]]
-
-    return closure_rows(parents, seeds, bytearray(ix.n))
+    return closure_rows(kept_rows(ix, cut)[1], seeds, bytearray(ix.n))
 
 
 def d_connecting_path(
@@ -331,28 +323,33 @@ class ArrowCut:
 SkipEdge = ArrowCut | None
 
 
-class _CutMasks:
-    """An ArrowCut as mark arrays: ``tails`` (arrows out of them may be cut),
-    ``into`` (variables some cut arrow points into) and the kept children."""
+def kept_rows(ix: Indexed, cut: ArrowCut | None):
+    """(children of v, parents of v) as functions, without the arrows of ``cut``.
 
-    __slots__ = ("tails", "into", "heads", "succ")
+    With no cut these are the index's own rows (:meth:`Indexed.rows`); with
+    one, only the few variables the cut touches read a filtered row.
+    """
+    children, parents = ix.rows()
+    if cut is None:
+        return children, parents
+    succ, pred = ix.succ, ix.pred
+    tails = ix.mask(cut.tails)
+    heads = None if cut.heads is None else ix.mask(cut.heads)
+    into = bytearray(ix.n)  # variables some cut arrow points into
+    for t in ix.ids(cut.tails):
+        for c in succ[t]:
+            if heads is None or heads[c]:
+                into[c] = 1
 
-    def __init__(self, ix: Indexed, cut: ArrowCut):
-        self.tails = ix.mask(cut.tails)
-        self.heads = None if cut.heads is None else ix.mask(cut.heads)
-        self.succ = ix.succ
-        self.into = bytearray(ix.n)
-        for t in ix.ids(cut.tails):
-            for c in ix.succ[t]:
-                if self.heads is None or self.heads[c]:
-                    self.into[c] = 1
+    def kept_children(v: int):
+        if not tails[v]:
+            return children(v)
+        return () if heads is None else [c for c in succ[v] if not heads[c]]
 
-    def children(self, v: int):
-        """Children of a tail v that keep their arrow from v."""
-        if self.heads is None:
-            return ()
-        heads = self.heads
-        return [c for c in self.succ[v] if not heads[c]]
+    def kept_parents(v: int):
+        return parents(v) if not into[v] else [p for p in pred[v] if not tails[p]]
+
+    return kept_children, kept_parents
 
 
 def _connected_cut(
@@ -385,14 +382,7 @@ def connected_marks(
     flags) because only the yes/no answer is needed: this is the hot loop of
     d-separation, validity and instrument tests on large diagrams.
     """
-    pred = ix.pred
-    children, parents = ix.rows()
-    if cut is None:
-        masks = None
-        tails = into = bytes(ix.n)
-    else:
-        masks = _CutMasks(ix, cut)
-        tails, into = masks.tails, masks.into
+    children, parents = kept_rows(ix, cut)
     up_stack = list(xs)
     seen_up = bytearray(ix.n)
     for x in xs:
@@ -405,14 +395,14 @@ def connected_marks(
         while up_stack:
             v = up_stack.pop()
             # v is not in zs here: blocked states are never pushed.
-            for p in parents(v) if not into[v] else [p for p in pred[v] if not tails[p]]:
+            for p in parents(v):
                 if not seen_up[p]:
                     if isy[p]:
                         return True
                     seen_up[p] = 1
                     if not inz[p]:
                         up_stack.append(p)
-            for c in children(v) if not tails[v] else masks.children(v):  # type: ignore[union-attr]
+            for c in children(v):
                 if not seen_down[c]:
                     if isy[c]:
                         return True
@@ -421,14 +411,14 @@ def connected_marks(
         while down_stack:
             v = down_stack.pop()
             if not inz[v]:
-                for c in children(v) if not tails[v] else masks.children(v):  # type: ignore[union-attr]
+                for c in children(v):
                     if not seen_down[c]:
                         if isy[c]:
                             return True
                         seen_down[c] = 1
                         down_stack.append(c)
             if anc[v]:
-                for p in parents(v) if not into[v] else [p for p in pred[v] if not tails[p]]:
+                for p in parents(v):
                     if not seen_up[p]:
                         if isy[p]:
                             return True

@@ -30,7 +30,7 @@ from .adjustment import (
     proper_backdoor_skip,
     proper_causal_nodes,
 )
-from .dsep import ArrowCut, SkipEdge, _CutMasks, ancestor_mask, arrow_between, d_separated_cut
+from .dsep import ArrowCut, SkipEdge, ancestor_mask, arrow_between, d_separated_cut, kept_rows
 from .graph import _as_set
 from .indexed import AS_WALLS, Indexed, closure, indexed
 
@@ -43,16 +43,11 @@ def _moral_ids(ix: Indexed, seeds: Iterable[str], cut: SkipEdge = None) -> tuple
     """The moral graph of G[An(seeds)] (arrows of ``cut`` removed) over G's index
     numbers, and its vertices.  Neighbour lists may repeat a vertex."""
     anc = ancestor_mask(ix, seeds, cut)
-    pred = ix.pred
-    if cut is None:
-        tails = into = bytes(ix.n)
-    else:
-        masks = _CutMasks(ix, cut)
-        tails, into = masks.tails, masks.into
+    parents_of = kept_rows(ix, cut)[1]
     vertices = list(compress(range(ix.n), anc))
     nbrs: Neighbours = [[] for _ in range(ix.n)]
     for v in vertices:
-        parents = pred[v] if not into[v] else [p for p in pred[v] if not tails[p]]
+        parents = parents_of(v)
         for i, p in enumerate(parents):
             nbrs[v].append(p)
             nbrs[p].append(v)
