@@ -143,7 +143,7 @@ def _severity(value: object, key: str, source: str) -> Severity:
 
 def _validate_rules(names: list[str], key: str, source: str) -> list[str]:
     from .rules import RULES_BY_NAME
-    from .rules.unknown_variable import suggestion
+    from .wording import did_you_mean as suggestion
 
     out = []
     for raw in names:

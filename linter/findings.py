@@ -55,6 +55,15 @@ class Finding:
     def sort_key(self) -> tuple:
         return (self.file, self.span.line, self.span.column, self.rule, self.message)
 
+    def __str__(self) -> str:
+        """The one line `dagward check` prints: `file:line:col: severity [rule] message`."""
+        return (
+            f"{self.file}:{self.span.line}:{self.span.column}: {self.severity} "
+            f"[{self.rule}] {self.message}"
+        )
+
+    __repr__ = __str__  # so `assert not problems, problems` reads as check's output
+
     def to_dict(self) -> dict:
         """The documented JSON shape (see docs in README, schema in tests)."""
         out: dict = {

@@ -74,6 +74,19 @@ class Arrow(NamedTuple):
         op = "<->" if self.bidirected else "->"
         return f"{self.source.text} {op} {self.target.text}"
 
+    @property
+    def key(self) -> tuple[str, str, str]:
+        """What makes two statements the same arrow: `a <-> b` is `b <-> a`."""
+        return arrow_key(self.source.text, self.target.text, self.bidirected)
+
+
+def arrow_key(source: str, target: str, bidirected: bool) -> tuple[str, str, str]:
+    """The one key of an arrow, used wherever arrows are matched or compared."""
+    if bidirected:
+        a, b = sorted((source, target))
+        return ("<->", a, b)
+    return ("->", source, target)
+
 
 # --- statements, in file order (the formatter prints them back) -----------------
 
@@ -270,6 +283,14 @@ class Diagram:
         """Comments that end a statement line, by line (an arrow's *reason*)."""
         return {c.span.line: c for c in self.comments if c.trailing}
 
+    @cached_property
+    def arrow_index(self) -> dict[tuple[str, str, str], Arrow]:
+        """Each arrow's first statement, by `arrow_key`."""
+        index: dict[tuple[str, str, str], Arrow] = {}
+        for arrow in self.arrows:
+            index.setdefault(arrow.key, arrow)
+        return index
+
     def analysis(self, name: str) -> Analysis:
         for a in self.analyses:
             if a.name == name:
@@ -295,17 +316,21 @@ class Diagram:
             return nx.freeze(self._build_graph(nx, hidden_node_name))
 
     def _build_graph(self, nx, hidden_node_name) -> nx.DiGraph:
+        # Nodes and arrows go in sorted order, so every search (and so every path
+        # and set a report shows) is the same whatever the order of the lines.
         g = nx.DiGraph()
-        g.add_nodes_from(self.variables)
+        g.add_nodes_from(sorted(self.variables))
         directed = []
         for a in self.arrows:
             if a.bidirected:
                 h = hidden_node_name(a.source.text, a.target.text)
-                g.add_node(h, hidden=True)
                 directed.append((h, a.source.text))
                 directed.append((h, a.target.text))
             else:
                 directed.append((a.source.text, a.target.text))
+        hidden = sorted({h for h, _ in directed if h not in g})
+        g.add_nodes_from(hidden, hidden=True)
+        directed.sort()
         g.add_edges_from(directed)
         return g
 

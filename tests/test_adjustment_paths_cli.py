@@ -12,7 +12,7 @@ from test_causal_oracle import blocked, causal, oracle_minimal_valid_sets, oracl
 from linter.engine import read_and_lint
 
 KEYS = ["name", "exposure", "outcome", "declared", "declared_valid", "identifiable",
-        "minimal_sets", "smallest", "truncated"]  # fmt: skip
+        "minimal_sets", "smallest", "truncated", "best_achievable", "front_door", "problems", "notes"]  # fmt: skip
 
 
 def _diagram(path):

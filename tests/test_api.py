@@ -46,8 +46,63 @@ def test_check_covariates_agrees_with_the_oracle():
 def test_check_covariates_reports_the_mediator_and_unknown_names():
     problems = check_covariates(WELLNESS, "total_effect", ["age", "fitness_12m"])
     assert "adjusted-mediator" in {p.rule for p in problems}
-    with pytest.raises(ValueError, match="not variables"):
-        check_covariates(WELLNESS, "fitness_effect", ["agee"])
+    (unknown,) = check_covariates(WELLNESS, "fitness_effect", ["agee"])
+    assert unknown.rule == "unknown-variable" and "did you mean `age`?" in unknown.message
+
+
+SIBLINGS = """\
+age -> cycling, sick_days
+cycling -> fitness -> sick_days
+
+analysis primary {
+  exposure: cycling
+  outcome: sick_days
+  adjust: age
+}
+analysis adjusted_for_the_mediator {
+  exposure: cycling
+  outcome: sick_days
+  adjust: age, fitness
+}
+"""
+
+
+def test_check_covariates_keeps_to_its_own_analysis(tmp_path):
+    # a deliberately invalid sensitivity analysis beside a valid primary one
+    path = tmp_path / "study.dag"
+    path.write_text(SIBLINGS, "utf-8")
+    assert check_covariates(path, "primary", ["age"]) == []
+    problems = check_covariates(path, "adjusted_for_the_mediator", ["age", "fitness"])
+    assert [p.rule for p in problems] == ["adjusted-mediator"]
+
+
+def test_check_covariates_honours_the_configuration_check_uses(tmp_path):
+    path = tmp_path / "study.dag"
+    path.write_text(SIBLINGS, "utf-8")
+    assert [p.rule for p in check_covariates(path, "primary", ["age", "fitness"])] == [
+        "adjusted-mediator"
+    ]
+    (tmp_path / "pyproject.toml").write_text(
+        '[tool.dagward]\ndisable = ["adjusted-mediator"]\n', "utf-8"
+    )
+    assert check_covariates(path, "primary", ["age", "fitness"]) == []
+
+
+def test_a_finding_prints_as_the_line_check_shows(tmp_path):
+    from clirunner import dagward
+
+    path = tmp_path / "study.dag"
+    path.write_text(SIBLINGS, "utf-8")
+    (finding,) = check_covariates(path, "adjusted_for_the_mediator", ["age", "fitness"])
+    shown = dagward("check", str(path), "--no-color").out.splitlines()[0]
+    assert str(finding).split(": ", 1)[1] == shown.split(": ", 1)[1]
+    assert repr([finding]) == f"[{finding}]"
+
+
+def test_the_graph_is_the_diagram_graph():
+    diagram = load_diagram(WELLNESS)
+    assert diagram.graph is diagram.diagram.graph
+    assert set(diagram.variables) <= set(diagram.graph)
 
 
 def test_broken_diagram_raises_with_findings():

@@ -11,6 +11,7 @@ from .adjustment import (
     collider_bias_paths,
     confounding_path,
     forbidden,
+    instrument_conditions,
     instrument_like,
     is_valid_adjustment,
     mediators,
@@ -19,6 +20,7 @@ from .adjustment import (
     proper_backdoor_skip,
     proper_causal_nodes,
 )
+from .bounded import OpenPathWitnesses, open_path_witnesses
 from .dsep import d_connecting_path, d_separated, path_is_causal, path_is_open
 from .graph import ancestors, descendants, hidden_node_name, is_hidden
 from .paths import BlockingNode, OpenedCollider, PathInfo, describe_path, enumerate_paths
@@ -49,10 +51,13 @@ __all__ = [
     "front_door_set",
     "hidden_node_name",
     "implied_independencies",
+    "instrument_conditions",
     "instrument_like",
     "is_hidden",
     "is_valid_adjustment",
     "mediators",
+    "open_path_witnesses",
+    "OpenPathWitnesses",
     "minimal_adjustment_sets",
     "minimal_separator",
     "open_noncausal_path",

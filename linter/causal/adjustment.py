@@ -542,6 +542,29 @@ def instrument_like(
     return not d_separated_cut(G, {z}, X, rest, None, proper=False)
 
 
+def instrument_conditions(
+    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str], z: str
+) -> tuple[str, ...]:
+    """The other adjusted variables that an instrument-like z relies on.
+
+    A subset W of Z minus z, minimal by inclusion, such that z is still
+    d-separated from Y given W once the exposures' outgoing arrows are removed:
+    "given W, z is related to the outcome only through the exposure" is then
+    literally true, and W is empty when it holds with nothing adjusted.
+    Greedy removal keeps the separation at every step (d-separation is not
+    monotone in the conditioning set, so each removal is tested); |Z| linear
+    tests.
+    """
+    X, Y = _roles(G, X, Y)
+    skip = ArrowCut(X)
+    kept = set(_as_set(G, Z)) - {z}
+    for w in sorted(kept):
+        trial = kept - {w}
+        if d_separated_cut(G, {z}, Y, trial, skip, proper=False):
+            kept = trial
+    return tuple(sorted(kept))
+
+
 __all__ = [
     "adjustment_exists",
     "canonical_adjustment",
@@ -549,6 +572,7 @@ __all__ = [
     "collider_bias_paths",
     "confounding_path",
     "forbidden",
+    "instrument_conditions",
     "instrument_like",
     "is_valid_adjustment",
     "mediators",

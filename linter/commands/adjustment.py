@@ -25,69 +25,44 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="list at most N minimal sets (default 20)")  # fmt: skip
 
 
-def _sorted_sets(sets) -> list[list[str]]:
-    return sorted((sorted(s) for s in sets), key=lambda s: (len(s), s))
-
-
 def report_for(diagram, analysis, max_sets: int) -> dict:
-    from ..causal import (
-        adjustment_exists,
-        is_valid_adjustment,
-        minimal_adjustment_sets,
-        smallest_adjustment_set,
-    )
+    """The analysis's verdict as the documented JSON shape."""
+    from ..verdict import Verdict
 
-    g, xs, ys = diagram.graph, analysis.exposure_set, analysis.outcome_set
-    measured = diagram.measured
-    declared = analysis.adjust_set
-    identifiable = adjustment_exists(g, xs, ys, measured)
-    minimal: list[frozenset] = []
-    truncated = False
-    if identifiable:
-        for s in minimal_adjustment_sets(g, xs, ys, measured, max_sets + 1):
-            if len(minimal) == max_sets:
-                truncated = True
-                break
-            minimal.append(s)
-    smallest = smallest_adjustment_set(g, xs, ys, measured) if identifiable else None
-    return {
-        "name": analysis.name,
-        "exposure": sorted(xs),
-        "outcome": sorted(ys),
-        "declared": None if declared is None else sorted(declared),
-        "declared_valid": None
-        if declared is None
-        else bool(declared <= measured and is_valid_adjustment(g, xs, ys, declared)),
-        "identifiable": identifiable,
-        "minimal_sets": _sorted_sets(minimal),
-        "smallest": None if smallest is None else sorted(smallest),
-        "truncated": truncated,
-    }
+    return Verdict(diagram, analysis).to_dict(max_sets)
 
 
-def _set(names: list[str] | None) -> str:
-    if names is None:
-        return "none declared"
-    return "{" + ", ".join(names) + "}" if names else "{} (no adjustment)"
+def render_text(file: str, diagram, reports: list[dict], max_sets: int) -> str:
+    from ..verdict import Verdict
+    from ..wording import format_set, problem_message
 
-
-def render_text(file: str, reports: list[dict], max_sets: int) -> str:
     lines = []
     for r in reports:
+        verdict = Verdict(diagram, diagram.analysis(r["name"]))
         lines.append(f"{file}: analysis {r['name']}: effect of {', '.join(r['exposure'])} "
                      f"on {', '.join(r['outcome'])}")  # fmt: skip
         if r["declared"] is None:
             lines.append("  declared set: none declared (no `adjust:` line)")
+        elif r["declared_valid"]:
+            lines.append(f"  declared set: {format_set(r['declared'])} is valid")
         else:
-            verdict = "valid" if r["declared_valid"] else "NOT valid (run `dagward check`)"
-            lines.append(f"  declared set: {_set(r['declared'])} is {verdict}")
+            own = [p for p in verdict.problems if p.rule != "unmeasured-confounding"]
+            why = ":" if own else ", as no set of measured variables is (below)"
+            lines.append(f"  declared set: {format_set(r['declared'])} is not valid{why}")
+            lines.extend(f"    - {problem_message(p, verdict)} [{p.rule}]" for p in own)
         if not r["identifiable"]:
             lines.append("  no valid adjustment set exists among the measured variables")
+            for p in verdict.problems_of("unmeasured-confounding"):
+                lines.append(f"    - {problem_message(p, verdict)} [{p.rule}]")
+            lines.append(f"  best achievable set: {format_set(r['best_achievable'])} "
+                         "(closes every confounding path that measured variables can close)")  # fmt: skip
+            if r["front_door"]:
+                lines.append(f"  front-door criterion holds for {format_set(r['front_door'])}")
         else:
-            lines.append(f"  smallest valid set: {_set(r['smallest'])}")
+            lines.append(f"  smallest valid set: {format_set(r['smallest'])}")
             lines.append(f"  minimal valid sets ({len(r['minimal_sets'])}"
                          f"{', cut at --max ' + str(max_sets) if r['truncated'] else ''}):")  # fmt: skip
-            lines.extend(f"    {_set(s)}" for s in r["minimal_sets"])
+            lines.extend(f"    {format_set(s)}" for s in r["minimal_sets"])
     if not reports:
         lines.append(f"{file}: no analysis to report on")
     return "\n".join(lines) + "\n"
@@ -101,5 +76,5 @@ def run(args: argparse.Namespace) -> int:
     settings = settings_from(args)
     result, analyses = load_for_analysis(args, settings)
     reports = [report_for(result.diagram, a, args.max) for a in analyses]
-    emit_analyses(args, reports, render_text(args.file, reports, args.max))
+    emit_analyses(args, reports, render_text(args.file, result.diagram, reports, args.max))
     return 0

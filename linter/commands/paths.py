@@ -27,7 +27,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 def describe(diagram, analysis, given: set[str] | None, limit: int) -> dict:
     from ..causal import describe_path, enumerate_paths, is_hidden
-    from ..rules.facts import spell_path
+    from ..wording import spell_path
 
     g = diagram.graph
     adjust = given if given is not None else set(analysis.adjust_set or ())

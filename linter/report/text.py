@@ -38,9 +38,6 @@ def render(report: Report) -> str:
             lines.extend("    " + row for row in f.excerpt.split("\n"))
         for r in f.related:
             lines.append(f"    {r.file}:{r.span.line}:{r.span.column}: {r.message}")
-        if f.suggested_sets:
-            shown = "; ".join("{" + ", ".join(s) + "}" if s else "{} (no adjustment)" for s in f.suggested_sets)
-            lines.append(f"    valid adjustment sets to consider: {shown}")
     if not report.quiet or report.findings:
         lines.append(summary(report))
     return "\n".join(lines) + ("\n" if lines else "")

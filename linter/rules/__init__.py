@@ -52,5 +52,18 @@ CAUSAL_RULES: tuple[Rule, ...] = (
 )
 DATA_RULES: tuple[Rule, ...] = (missing_column.RULE, independence_rejected.RULE)
 
+# The rules whose findings together decide whether a declared set is valid
+# (rules.md, "completeness"): the set is valid exactly when none of them fires.
+VALIDITY_RULES: frozenset[str] = frozenset(
+    {
+        "adjusted-unmeasured",
+        "adjusted-mediator",
+        "adjusted-descendant",
+        "collider-adjusted",
+        "open-biasing-path",
+        "unmeasured-confounding",
+    }
+)
+
 ALL_RULES: tuple[Rule, ...] = STRUCTURE_RULES + CAUSAL_RULES + DATA_RULES
 RULES_BY_NAME: dict[str, Rule] = {r.name: r for r in ALL_RULES}

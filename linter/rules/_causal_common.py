@@ -1,16 +1,23 @@
-"""Small helpers shared by the causal rule modules."""
+"""Small helpers shared by the causal rule modules: they turn the verdict's
+problems into findings (the verdict judges, `linter.wording` words)."""
 
 from __future__ import annotations
 
 from collections.abc import Iterator
+from typing import TYPE_CHECKING
 
-from ..model import Analysis, Name, Span
-from .base import Context
+from ..findings import Finding, Related
+from ..model import Analysis, Arrow, Name, Span, arrow_key
+from ..wording import problem_message
+from .base import Context, Rule
+
+if TYPE_CHECKING:  # the verdict (and networkx) load only when a causal rule runs
+    from ..verdict import Problem, Verdict
 
 
-def analyses_with_facts(ctx: Context):
+def analyses_with_verdicts(ctx: Context) -> Iterator[tuple[Analysis, Verdict]]:
     for analysis in ctx.diagram.analyses:
-        yield analysis, ctx.facts(analysis)
+        yield analysis, ctx.verdict(analysis)
 
 
 def adjusted_names(analysis: Analysis) -> Iterator[Name]:
@@ -27,10 +34,77 @@ def adjust_key_span(analysis: Analysis) -> Span:
     return entry.key_span if entry is not None else analysis.header
 
 
-def path_related(ctx: Context, facts, path: list[str]):
-    return tuple(ctx.related(a.span, f"arrow {a.describe()}") for a in facts.arrows_on(path))
+def arrows_on(ctx: Context, graph, path) -> list[Arrow]:
+    """The arrow statements behind the steps of a path, in path order."""
+    from ..causal.graph import is_hidden
+
+    index = ctx.diagram.arrow_index
+    out: list[Arrow] = []
+    i = 0
+    while i < len(path) - 1:
+        a, b = path[i], path[i + 1]
+        if is_hidden(graph, b) and i + 2 < len(path):
+            arrow = index.get(arrow_key(a, path[i + 2], True))
+            i += 2
+        elif is_hidden(graph, a):
+            i += 1
+            continue
+        else:
+            arrow = index.get(arrow_key(a, b, False)) or index.get(arrow_key(b, a, False))
+            i += 1
+        if arrow is not None and arrow not in out:
+            out.append(arrow)
+    return out
 
 
-def format_set(names) -> str:
-    names = sorted(names)
-    return "{" + ", ".join(names) + "}" if names else "{} (no adjustment)"
+def path_related(ctx: Context, graph, path) -> tuple[Related, ...]:
+    return tuple(ctx.related(a.span, f"arrow {a.describe()}") for a in arrows_on(ctx, graph, path))
+
+
+def problem_finding(
+    ctx: Context,
+    rule: Rule,
+    span: Span,
+    analysis: Analysis,
+    verdict: Verdict,
+    problem: Problem,
+    related: tuple[Related, ...] = (),
+    suggested_sets: tuple[tuple[str, ...], ...] | None = None,
+) -> Finding:
+    from ..verdict import json_path
+
+    path = problem.path
+    return ctx.finding(
+        rule,
+        span,
+        problem_message(problem, verdict),
+        analysis=analysis,
+        path=json_path(verdict.graph, path) if path else None,
+        related=related + (path_related(ctx, verdict.graph, path) if path else ()),
+        suggested_sets=suggested_sets,
+    )
+
+
+def per_adjusted_variable(ctx: Context, rule: Rule) -> Iterator[Finding]:
+    """One finding per adjusted variable that the verdict names under `rule`,
+    at that name in `adjust:`."""
+    for analysis, verdict in analyses_with_verdicts(ctx):
+        if analysis.adjust is None:
+            continue
+        problems = {p.variable: p for p in verdict.problems_of(rule.name)}
+        if not problems:
+            continue
+        for n in adjusted_names(analysis):
+            problem = problems.get(n.text)
+            if problem is not None:
+                yield problem_finding(ctx, rule, n.span, analysis, verdict, problem)
+
+
+def per_analysis(ctx: Context, rule: Rule, span_of=lambda a: a.header) -> Iterator[Finding]:
+    """One finding per problem of the analysis as a whole, at `span_of(analysis)`."""
+    for analysis, verdict in analyses_with_verdicts(ctx):
+        for problem in verdict.problems_of(rule.name):
+            sets = verdict.suggestions() if problem.rule == "open-biasing-path" else None
+            yield problem_finding(
+                ctx, rule, span_of(analysis), analysis, verdict, problem, suggested_sets=sets or None
+            )

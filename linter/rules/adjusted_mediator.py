@@ -31,29 +31,12 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ._causal_common import adjusted_names, analyses_with_facts, path_related
+from ._causal_common import per_adjusted_variable
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
-    for analysis, facts in analyses_with_facts(ctx):
-        if facts.adjust is None:
-            continue
-        for n in adjusted_names(analysis):
-            if n.text not in facts.mediators:
-                continue
-            path = facts.causal_path_through(n.text)
-            shown = f": it lies on the causal path {facts.spell(path)}" if path else ""
-            yield ctx.finding(
-                RULE,
-                n.span,
-                f"adjusting for the mediator `{n.text}` blocks part of the effect{shown}; "
-                "remove it from `adjust:` to estimate the total effect",
-                analysis=analysis,
-                path=facts.json_path(path) if path else None,
-                related=path_related(ctx, facts, path) if path else (),
-            )
-
+    return per_adjusted_variable(ctx, RULE)
 
 RULE = Rule(
     name="adjusted-mediator",

@@ -30,24 +30,20 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ._causal_common import adjusted_names
+from ._causal_common import adjusted_names, analyses_with_verdicts, problem_finding
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
     unmeasured = ctx.diagram.unmeasured
-    for analysis in ctx.diagram.analyses:
+    for analysis, verdict in analyses_with_verdicts(ctx):
+        problems = {p.variable: p for p in verdict.problems_of(RULE.name)}
         for n in adjusted_names(analysis):
-            if n.text in unmeasured:
-                yield ctx.finding(
-                    RULE,
-                    n.span,
-                    f"`{n.text}` is declared `unmeasured`, so the analysis cannot adjust for it; "
-                    "remove it from `adjust:` or measure it and drop it from `unmeasured`",
-                    analysis=analysis,
-                    related=(ctx.related(unmeasured[n.text].span, f"`{n.text}` declared unmeasured"),),
-                )
-
+            problem = problems.get(n.text)
+            if problem is None:
+                continue
+            declared = ctx.related(unmeasured[n.text].span, f"`{n.text}` declared unmeasured")
+            yield problem_finding(ctx, RULE, n.span, analysis, verdict, problem, (declared,))
 
 RULE = Rule(
     name="adjusted-unmeasured",

@@ -16,7 +16,7 @@ from ..findings import Finding, Related, Severity
 from ..model import Analysis, Diagram, Span
 
 if TYPE_CHECKING:
-    from .facts import AnalysisFacts
+    from ..verdict import Verdict
 
 Scope = Literal["structure", "causal", "data"]
 
@@ -34,13 +34,13 @@ class Rule:
 
 @dataclass
 class Context:
-    """Everything a rule may read. Rules never mutate it (the facts cache aside)."""
+    """Everything a rule may read. Rules never mutate it (the verdict cache aside)."""
 
     diagram: Diagram
     file: str  # the path as shown to the user
     data: Any = None  # a loaded data table, for the data rules (`--data`)
     data_options: Any = None
-    _facts: dict[str, AnalysisFacts] | None = None
+    _verdicts: dict[str, Verdict] | None = None
 
     def finding(
         self,
@@ -68,21 +68,13 @@ class Context:
     def related(self, span: Span, message: str) -> Related:
         return Related(self.file, span, message)
 
-    def facts(self, analysis: Analysis) -> AnalysisFacts:
-        """Causal facts about one analysis, computed once and shared by the rules."""
-        from .facts import AnalysisFacts
+    def verdict(self, analysis: Analysis) -> Verdict:
+        """The verdict on one analysis, computed once and shared by the rules."""
+        from ..verdict import Verdict
 
-        if self._facts is None:
-            self._facts = {}
+        if self._verdicts is None:
+            self._verdicts = {}
         key = analysis.name
-        if key not in self._facts:
-            self._facts[key] = AnalysisFacts(self.diagram, analysis)
-        return self._facts[key]
-
-
-def backticked(names: Iterable[str]) -> str:
-    """`a`, `b` and `c`"""
-    items = [f"`{n}`" for n in names]
-    if len(items) <= 1:
-        return "".join(items)
-    return ", ".join(items[:-1]) + " and " + items[-1]
+        if key not in self._verdicts:
+            self._verdicts[key] = Verdict(self.diagram, analysis)
+        return self._verdicts[key]

@@ -41,34 +41,12 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ._causal_common import adjusted_names, analyses_with_facts, path_related
+from ._causal_common import per_adjusted_variable
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
-    for analysis, facts in analyses_with_facts(ctx):
-        if facts.adjust is None:
-            continue
-        for n in adjusted_names(analysis):
-            found = facts.collider_path(n.text)
-            if found is None:
-                continue
-            path, collider = found
-            role = (
-                f"`{n.text}` is a collider on it"
-                if collider == n.text
-                else f"`{n.text}` is an effect of the collider `{collider}` on it"
-            )
-            yield ctx.finding(
-                RULE,
-                n.span,
-                f"adjusting for `{n.text}` opens {facts.spell(path)} ({role}); remove it from "
-                "`adjust:`, or also adjust for a non-collider on that path",
-                analysis=analysis,
-                path=facts.json_path(path),
-                related=path_related(ctx, facts, path),
-            )
-
+    return per_adjusted_variable(ctx, RULE)
 
 RULE = Rule(
     name="collider-adjusted",

@@ -65,7 +65,7 @@ from .base import Context, Rule
 def describe(ind) -> str:
     """`a` and `b` are independent (given `c` and `d`) -- plain words, no symbols,
     so the message survives any terminal encoding."""
-    from .base import backticked
+    from ..wording import backticked
 
     text = f"`{ind.a}` and `{ind.b}` are independent"
     if ind.given:

@@ -32,27 +32,12 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ._causal_common import adjusted_names, analyses_with_facts
+from ._causal_common import per_adjusted_variable
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
-    for analysis, facts in analyses_with_facts(ctx):
-        if facts.adjust is None:
-            continue
-        exposures = ", ".join(f"`{x}`" for x in sorted(facts.exposure))
-        for n in adjusted_names(analysis):
-            if n.text in facts.forbidden or not facts.is_instrument_like(n.text):
-                continue
-            yield ctx.finding(
-                RULE,
-                n.span,
-                f"`{n.text}` affects the outcome only through {exposures}: adjusting for it "
-                "adds variance and can amplify bias from unmeasured confounding; consider "
-                "removing it from `adjust:`",
-                analysis=analysis,
-            )
-
+    return per_adjusted_variable(ctx, RULE)
 
 RULE = Rule(
     name="instrument-adjusted",

@@ -32,24 +32,12 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ._causal_common import analyses_with_facts
+from ._causal_common import per_analysis
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
-    for analysis, facts in analyses_with_facts(ctx):
-        if facts.has_causal_path:
-            continue
-        yield ctx.finding(
-            RULE,
-            analysis.header,
-            f"no causal path leads from {', '.join(sorted(facts.exposure))} to "
-            f"{', '.join(sorted(facts.outcome))}: the diagram says the effect is zero; add the "
-            "missing arrow, or mark a negative-control analysis with "
-            "`# dagward: allow no-causal-path`",
-            analysis=analysis,
-        )
-
+    return per_analysis(ctx, RULE)
 
 RULE = Rule(
     name="no-causal-path",

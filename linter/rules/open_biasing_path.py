@@ -32,34 +32,12 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ._causal_common import adjust_key_span, analyses_with_facts, format_set, path_related
+from ._causal_common import adjust_key_span, per_analysis
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
-    for analysis, facts in analyses_with_facts(ctx):
-        if facts.adjust is None or not facts.identifiable:
-            continue
-        path = facts.confounding_path
-        if path is None:
-            continue
-        sets = facts.suggestions()
-        hint = (
-            "; valid adjustment sets: " + "; ".join(format_set(s) for s in sets)
-            if sets
-            else ""
-        )
-        yield ctx.finding(
-            RULE,
-            adjust_key_span(analysis),
-            f"the non-causal path {facts.spell(path)} is open: the adjustment set has no "
-            f"variable on it{hint}",
-            analysis=analysis,
-            path=facts.json_path(path),
-            related=path_related(ctx, facts, path),
-            suggested_sets=sets,
-        )
-
+    return per_analysis(ctx, RULE, adjust_key_span)
 
 RULE = Rule(
     name="open-biasing-path",

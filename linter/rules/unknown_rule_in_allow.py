@@ -32,7 +32,7 @@ from .base import Context, Rule
 
 def check(ctx: Context) -> Iterator[Finding]:
     from . import RULES_BY_NAME
-    from .unknown_variable import suggestion
+    from ..wording import did_you_mean as suggestion
 
     known = sorted(RULES_BY_NAME)
     for allow in allow_comments(ctx.diagram):

@@ -25,20 +25,12 @@ Good::
 
 from __future__ import annotations
 
-import difflib
 from collections.abc import Iterator
 
 from ..findings import Finding
 from ..model import LabelStatement
+from ..wording import did_you_mean as suggestion
 from .base import Context, Rule
-
-
-def suggestion(name: str, known: list[str]) -> str:
-    lowered = {k.lower(): k for k in known}
-    if name.lower() in lowered:
-        return f"; did you mean `{lowered[name.lower()]}`?"
-    close = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
-    return f"; did you mean `{close[0]}`?" if close else ""
 
 
 def check(ctx: Context) -> Iterator[Finding]:

@@ -34,34 +34,12 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ._causal_common import analyses_with_facts, format_set, path_related
+from ._causal_common import per_analysis
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
-    for analysis, facts in analyses_with_facts(ctx):
-        if facts.identifiable:
-            continue
-        path = facts.unblockable_path
-        shown = f"; for example {facts.spell(path)} stays open" if path else ""
-        front = facts.front_door
-        door = (
-            f". The front-door criterion holds for {format_set(front)}: the effect is "
-            "identified through it instead (Pearl 1995)"
-            if front
-            else ""
-        )
-        yield ctx.finding(
-            RULE,
-            analysis.header,
-            f"no set of measured variables can block every biasing path from "
-            f"{', '.join(sorted(facts.exposure))} to {', '.join(sorted(facts.outcome))}{shown}; "
-            f"measure a variable on that path or choose another design{door}",
-            analysis=analysis,
-            path=facts.json_path(path) if path else None,
-            related=path_related(ctx, facts, path) if path else (),
-        )
-
+    return per_analysis(ctx, RULE)
 
 RULE = Rule(
     name="unmeasured-confounding",

@@ -1,0 +1,397 @@
+"""One verdict per analysis: the only place in dagward that judges an adjustment set.
+
+`check`'s rules, `adjustment`, `paths`, `diff`, `render`, the language server and
+the Python API all read a :class:`Verdict`; none of them decides validity on its
+own. A verdict answers, as structured data:
+
+* is the declared set valid, and if not, *why*: a tuple of :class:`Problem`
+  records (which rule, which variable, which path, which collider);
+* does any valid set exist among the measured variables (``identifiable``), the
+  minimal valid sets, the smallest one, and when none exists the best
+  achievable set and the path it leaves open;
+* whether the front-door criterion holds;
+* notes that do not bear on validity (an instrument-like adjusted variable, no
+  causal path at all).
+
+Wording is built from these records in :mod:`linter.wording`; nothing here
+writes a sentence. Everything is computed lazily, so ``check`` on a valid
+analysis pays for one linear validity test and no more.
+
+Definitions (adjustment criterion; Shpitser, VanderWeele & Robins 2010;
+Perkovic et al. 2018) are those of :mod:`linter.causal.adjustment`.
+"""
+
+from __future__ import annotations
+
+from collections import deque
+from dataclasses import dataclass
+from functools import cached_property
+
+from .causal import (
+    adjustment_exists,
+    canonical_adjustment,
+    collider_bias_paths,
+    confounding_path,
+    forbidden,
+    front_door_set,
+    instrument_conditions,
+    instrument_like,
+    is_hidden,
+    is_valid_adjustment,
+    minimal_adjustment_sets,
+    open_noncausal_path,
+    open_path_witnesses,
+    proper_causal_nodes,
+    smallest_adjustment_set,
+)
+from .model import Analysis, Diagram
+from .rules import CAUSAL_RULES, VALIDITY_RULES
+
+# How many minimal sets to look at when suggesting the ones closest to the declared
+# set: each costs a linear pass, so fewer on very large diagrams.
+SUGGESTION_POOL = 20
+SUGGESTION_POOL_LARGE = 3
+LARGE_DIAGRAM = 5_000  # variables
+# Rounds of the sound (not complete) search for a confounding path with a
+# fixable variable on diagrams too large for the exact listing.
+FIXABLE_ROUNDS = 10
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One reason a declared set is not valid, or one note about it.
+
+    ``path`` lists graph nodes from an exposure to an outcome (hidden `<->`
+    parents included; :mod:`linter.wording` spells them).
+    """
+
+    rule: str
+    variable: str | None = None  # the adjusted variable concerned; None: the analysis
+    path: tuple[str, ...] | None = None
+    collider: str | None = None  # collider-adjusted: the collider on `path`
+    source: str | None = None  # adjusted-descendant: the outcome or mediator above it
+    source_kind: str | None = None  # "outcome" | "mediator"
+    fixable: tuple[str, ...] = ()  # open-biasing-path: adjustable variables on `path`
+    given: tuple[str, ...] = ()  # instrument-adjusted: adjusted variables the claim needs
+
+    def to_dict(self, graph=None) -> dict:
+        """JSON: paths as `json_path` writes them when the graph is given."""
+        out: dict = {"rule": self.rule}
+        for key in ("variable", "collider", "source", "source_kind"):
+            value = getattr(self, key)
+            if value is not None:
+                out[key] = value
+        if self.path is not None:
+            out["path"] = list(self.path if graph is None else json_path(graph, self.path))
+        if self.fixable:
+            out["fixable"] = list(self.fixable)
+        if self.given:
+            out["given"] = list(self.given)
+        return out
+
+
+def _sorted_sets(sets) -> tuple[tuple[str, ...], ...]:
+    return tuple(sorted((tuple(sorted(s)) for s in sets), key=lambda s: (len(s), s)))
+
+
+class Verdict:
+    """The judgement of one analysis of one diagram (see the module docstring)."""
+
+    def __init__(self, diagram: Diagram, analysis: Analysis):
+        self.diagram = diagram
+        self.analysis = analysis
+        self.name = analysis.name
+        self.graph = diagram.graph
+        self.exposure = frozenset(analysis.exposure_set)
+        self.outcome = frozenset(analysis.outcome_set)
+        self.declared: frozenset[str] | None = analysis.adjust_set
+        self.measured = diagram.measured
+
+    # -- the structure of the question ------------------------------------------
+    @cached_property
+    def causal_nodes(self) -> frozenset[str]:
+        return frozenset(proper_causal_nodes(self.graph, self.exposure, self.outcome))
+
+    @cached_property
+    def mediators(self) -> frozenset[str]:
+        return self.causal_nodes - self.outcome
+
+    @cached_property
+    def forbidden(self) -> frozenset[str]:
+        return frozenset(forbidden(self.graph, self.exposure, self.outcome))
+
+    @cached_property
+    def has_causal_path(self) -> bool:
+        return bool(self.causal_nodes & self.outcome)
+
+    @cached_property
+    def fixable(self) -> frozenset[str]:
+        """Variables an adjustment set may hold: measured, not forbidden, not X or Y."""
+        return self.measured - self.forbidden - self.exposure - self.outcome
+
+    # -- is there a valid set at all ---------------------------------------------
+    @cached_property
+    def identifiable(self) -> bool:
+        """A valid adjustment set exists among the measured variables."""
+        return adjustment_exists(self.graph, self.exposure, self.outcome, self.measured)
+
+    @cached_property
+    def minimal_sets(self) -> tuple[tuple[str, ...], ...]:
+        """Up to SUGGESTION_POOL minimal valid sets (smallest first)."""
+        pool = SUGGESTION_POOL if len(self.graph) < LARGE_DIAGRAM else SUGGESTION_POOL_LARGE
+        return self.list_minimal_sets(pool)[0]
+
+    def list_minimal_sets(self, limit: int) -> tuple[tuple[tuple[str, ...], ...], bool]:
+        """At most ``limit`` minimal valid sets, sorted, and whether the list was cut."""
+        if not self.identifiable:
+            return (), False
+        found = []
+        for s in minimal_adjustment_sets(
+            self.graph, self.exposure, self.outcome, self.measured, limit + 1
+        ):
+            if len(found) == limit:
+                return _sorted_sets(found), True
+            found.append(s)
+        return _sorted_sets(found), False
+
+    @cached_property
+    def smallest(self) -> tuple[str, ...] | None:
+        if not self.identifiable:
+            return None
+        s = smallest_adjustment_set(self.graph, self.exposure, self.outcome, self.measured)
+        return None if s is None else tuple(sorted(s))
+
+    def suggestions(self, limit: int = 3) -> tuple[tuple[str, ...], ...]:
+        """Minimal valid sets, the ones closest to the declared set first."""
+        declared = set(self.declared or ())
+        ranked = sorted(
+            self.minimal_sets, key=lambda s: (len(set(s) ^ declared), len(s), s)
+        )
+        return tuple(ranked[:limit])
+
+    @cached_property
+    def best_achievable(self) -> tuple[str, ...] | None:
+        """When no valid set exists: the measured, non-forbidden ancestors of the
+        exposures and outcomes (the canonical set; van der Zander, Liskiewicz &
+        Textor 2019). It closes every confounding path that any set of measured
+        variables can close. None when a valid set exists."""
+        if self.identifiable:
+            return None
+        return tuple(
+            sorted(canonical_adjustment(self.graph, self.exposure, self.outcome, self.measured))
+        )
+
+    @cached_property
+    def unblockable_path(self) -> tuple[str, ...] | None:
+        """A path that the best achievable set (so every measured set) leaves open."""
+        if self.identifiable:
+            return None
+        canonical = canonical_adjustment(self.graph, self.exposure, self.outcome, self.measured)
+        path = open_noncausal_path(self.graph, self.exposure, self.outcome, canonical)
+        return None if path is None else tuple(path)
+
+    @cached_property
+    def front_door(self) -> tuple[str, ...] | None:
+        """A measured set for which the front-door criterion holds (Pearl 1995), or None."""
+        found = front_door_set(self.graph, self.exposure, self.outcome, self.measured)
+        return None if found is None else tuple(sorted(found))
+
+    # -- the declared set ---------------------------------------------------------
+    @cached_property
+    def declared_valid(self) -> bool | None:
+        if self.declared is None:
+            return None
+        return self.declared <= self.measured and is_valid_adjustment(
+            self.graph, self.exposure, self.outcome, self.declared
+        )
+
+    @cached_property
+    def problems(self) -> tuple[Problem, ...]:
+        """Why the declared set is not valid (empty when it is, or when none is
+        declared, except for `unmeasured-confounding`, which is about the
+        analysis). In catalogue order, then by the variable's name."""
+        out: list[Problem] = []
+        if self.declared is not None and not self.declared_valid:
+            out.extend(self._declared_problems())
+        if not self.identifiable:
+            out.append(Problem("unmeasured-confounding", path=self.unblockable_path))
+        if self.declared_valid is False and not out:  # pragma: no cover - a bug guard
+            raise AssertionError(f"analysis {self.name}: invalid set with no reason found")
+        return tuple(out)
+
+    def problems_of(self, rule: str) -> list[Problem]:
+        return [p for p in self.problems + self.notes if p.rule == rule]
+
+    def _declared_problems(self) -> list[Problem]:
+        Z = self.declared or frozenset()
+        out: list[Problem] = []
+        for z in sorted(Z - self.measured):
+            out.append(Problem("adjusted-unmeasured", variable=z))
+        for z in sorted(Z & self.mediators):
+            out.append(
+                Problem("adjusted-mediator", variable=z, path=self._causal_path_through(z))
+            )
+        for z in sorted((Z & self.forbidden) - self.mediators):
+            path, source, kind = self._source_of(z)
+            out.append(
+                Problem(
+                    "adjusted-descendant", variable=z, path=path, source=source, source_kind=kind
+                )
+            )
+        colliders, confounding = self._open_path_witnesses(Z)
+        for z in sorted(colliders):
+            path, c = colliders[z]
+            out.append(Problem("collider-adjusted", variable=z, path=path, collider=c))
+        if confounding is not None:
+            fix = tuple(sorted(v for v in confounding[1:-1] if v in self.fixable))
+            out.append(Problem("open-biasing-path", path=confounding, fixable=fix))
+        if not out and self.identifiable:
+            out.extend(self._fallback_problems(Z))
+        order = {rule.name: i for i, rule in enumerate(CAUSAL_RULES)}
+        out.sort(key=lambda p: (order[p.rule], p.variable or ""))
+        return out
+
+    def _open_path_witnesses(self, Z: frozenset[str]):
+        """(collider witnesses by adjusted variable, a confounding path with a fixable
+        variable): exact on small diagrams, by sound linear searches above."""
+        G, X, Y = self.graph, self.exposure, self.outcome
+        exact = open_path_witnesses(G, X, Y, Z, self.fixable)
+        if exact is not None:
+            return exact.colliders, exact.confounding
+        found = collider_bias_paths(G, X, Y, Z, sorted(Z))
+        colliders = {z: (tuple(p), c) for z, v in found.items() if v is not None for p, c in [v]}
+        return colliders, self._confounding_with_fixable(Z)
+
+    def _confounding_with_fixable(self, Z: frozenset[str]) -> tuple[str, ...] | None:
+        """A collider-free open path with a fixable variable (sound; large diagrams).
+
+        A collider-free path is open exactly when none of its variables is
+        adjusted, so a path found with extra variables treated as adjusted is
+        genuine. When a path has no fixable variable, its variables are treated
+        as adjusted and the search runs again, a bounded number of rounds.
+        """
+        G, X, Y = self.graph, self.exposure, self.outcome
+        walls = set(Z)
+        for _ in range(FIXABLE_ROUNDS):
+            path = confounding_path(G, X, Y, walls)
+            if path is None:
+                return None
+            inner = path[1:-1]
+            if any(v in self.fixable for v in inner):
+                return tuple(path)
+            if not inner:
+                return None
+            walls |= set(inner)
+        return None
+
+    def _fallback_problems(self, Z: frozenset[str]) -> list[Problem]:
+        """The exact open-path witness, when the searches above named nothing.
+
+        Exact when Z holds no forbidden variable; then the path either has a
+        collider above an adjusted variable (collider-adjusted) or none (a
+        confounding path, fixable or else an unmeasured-confounding case).
+        """
+        G = self.graph
+        if Z & self.forbidden or not Z <= self.measured:
+            return []
+        path = open_noncausal_path(G, self.exposure, self.outcome, Z)
+        if path is None:
+            return []
+        succ = G.succ
+        for i in range(1, len(path) - 1):
+            c = path[i]
+            if c in succ[path[i - 1]] and c in succ[path[i + 1]]:
+                from .causal import descendants
+
+                below = sorted((descendants(G, {c}) | {c}) & Z)
+                return [
+                    Problem("collider-adjusted", variable=z, path=tuple(path), collider=c)
+                    for z in below[:1]
+                ]
+        fix = tuple(sorted(v for v in path[1:-1] if v in self.fixable))
+        if fix:
+            return [Problem("open-biasing-path", path=tuple(path), fixable=fix)]
+        return []
+
+    # -- notes that do not bear on validity ----------------------------------------
+    @cached_property
+    def notes(self) -> tuple[Problem, ...]:
+        out: list[Problem] = []
+        if self.declared is not None:
+            Z = self.declared
+            G, X, Y = self.graph, self.exposure, self.outcome
+            for z in sorted(Z & self.measured - self.forbidden):
+                if instrument_like(G, X, Y, Z, z):
+                    given = instrument_conditions(G, X, Y, Z, z)
+                    out.append(Problem("instrument-adjusted", variable=z, given=given))
+        if not self.has_causal_path:
+            out.append(Problem("no-causal-path"))
+        return tuple(out)
+
+    # -- witness paths for the problems ---------------------------------------------
+    def _bfs(self, sources, targets, avoid) -> tuple[str, ...] | None:
+        """A shortest directed path from a source to a target, never entering `avoid`."""
+        succ = self.graph.succ
+        parent: dict[str, str | None] = {s: None for s in sorted(sources)}
+        queue = deque(parent)
+        while queue:
+            node = queue.popleft()
+            if node in targets:
+                path = [node]
+                while parent[path[-1]] is not None:
+                    path.append(parent[path[-1]])  # type: ignore[arg-type]
+                return tuple(reversed(path))
+            for nxt in sorted(succ[node]):
+                if nxt not in parent and nxt not in avoid:
+                    parent[nxt] = node
+                    queue.append(nxt)
+        return None
+
+    def _causal_path_through(self, m: str) -> tuple[str, ...] | None:
+        """A proper causal path (only its first variable an exposure) through m."""
+        first = self._bfs(self.exposure, {m}, self.exposure)
+        rest = self._bfs({m}, self.outcome, self.exposure)
+        if first is None or rest is None:
+            return None
+        return first + rest[1:]
+
+    def _source_of(self, z: str) -> tuple[tuple[str, ...], str, str]:
+        """Whose effect a forbidden, non-mediator z is: an outcome first, else a mediator."""
+        path = self._bfs(self.outcome, {z}, frozenset())
+        if path is not None:
+            return path, path[0], "outcome"
+        path = self._bfs(self.mediators, {z}, frozenset()) or (z,)
+        return path, path[0], "mediator"
+
+    # -- one structured answer for reports ------------------------------------------
+    def to_dict(self, max_sets: int = 20) -> dict:
+        """The documented `adjustment` JSON shape (interfaces.md), plus the why."""
+        minimal, truncated = self.list_minimal_sets(max_sets)
+        declared = self.declared
+        return {
+            "name": self.name,
+            "exposure": sorted(self.exposure),
+            "outcome": sorted(self.outcome),
+            "declared": None if declared is None else sorted(declared),
+            "declared_valid": self.declared_valid,
+            "identifiable": self.identifiable,
+            "minimal_sets": [list(s) for s in minimal],
+            "smallest": None if self.smallest is None else list(self.smallest),
+            "truncated": truncated,
+            "best_achievable": None
+            if self.best_achievable is None
+            else list(self.best_achievable),
+            "front_door": None if self.front_door is None else list(self.front_door),
+            "problems": [p.to_dict(self.graph) for p in self.problems],
+            "notes": [p.to_dict(self.graph) for p in self.notes],
+        }
+
+
+def json_path(graph, path) -> tuple[str, ...]:
+    """A path as JSON lists it: a hidden `<->` parent written `<->`."""
+    return tuple("<->" if is_hidden(graph, n) else n for n in path)
+
+
+def verdicts(diagram: Diagram) -> dict[str, Verdict]:
+    """A verdict for every analysis of a diagram, by analysis name."""
+    return {a.name: Verdict(diagram, a) for a in diagram.analyses}

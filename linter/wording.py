@@ -1,0 +1,229 @@
+"""The one place where dagward words things: sets, name lists, paths, arrows, and
+the messages of the verdict's problems.
+
+Every reporter, rule, command and `diff` formats from structured data through
+these functions, so the same fact reads the same everywhere and no sentence is
+ever parsed back into facts. Plain words first; a term of art at most once, in
+parentheses; citations belong in the rule docs (`dagward explain`), not here.
+"""
+
+from __future__ import annotations
+
+import difflib
+from collections.abc import Iterable
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from .verdict import Problem, Verdict
+
+EMPTY_SET = "{} (no adjustment)"
+
+
+def format_set(names: Iterable[str] | None) -> str:
+    """`{a, b}`; the empty set as `{} (no adjustment)`; None as `none declared`."""
+    if names is None:
+        return "none declared"
+    names = sorted(names)
+    return "{" + ", ".join(names) + "}" if names else EMPTY_SET
+
+
+def format_sets(sets: Iterable[Iterable[str]]) -> str:
+    return "; ".join(format_set(s) for s in sets)
+
+
+def name_list(names: Iterable[str]) -> str:
+    """`a, b, c` (sorted)."""
+    return ", ".join(sorted(names))
+
+
+def backticked(names: Iterable[str]) -> str:
+    """`a`, `b` and `c` (in the order given)."""
+    items = [f"`{n}`" for n in names]
+    if len(items) <= 1:
+        return "".join(items)
+    return ", ".join(items[:-1]) + " and " + items[-1]
+
+
+def spell_path(graph, path: Iterable[str]) -> str:
+    """`a <- b -> c`, with a hidden `<->` parent written `a <-> c`."""
+    from .causal.graph import is_hidden  # networkx stays out of `fmt`
+
+    path = list(path)
+    succ = graph.succ
+    parts = [path[0]]
+    i = 0
+    while i < len(path) - 1:
+        a, b = path[i], path[i + 1]
+        if is_hidden(graph, b) and i + 2 < len(path):
+            parts.append(f" <-> {path[i + 2]}")
+            i += 2
+            continue
+        parts.append(f" -> {b}" if b in succ[a] else f" <- {b}")
+        i += 1
+    return "".join(parts)
+
+
+def closest_name(name: str, known: Iterable[str]) -> str | None:
+    """The known name a misspelt one most likely meant (same letters in another
+    case first, then the closest spelling), or None."""
+    known = list(known)
+    lowered = {k.lower(): k for k in known}
+    if name.lower() in lowered:
+        return lowered[name.lower()]
+    close = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
+    return close[0] if close else None
+
+
+def did_you_mean(name: str, known: Iterable[str]) -> str:
+    """`; did you mean `age`?`, or nothing when no known name is close."""
+    close = closest_name(name, known)
+    return f"; did you mean `{close}`?" if close else ""
+
+
+def arrow_text(source: str, target: str, bidirected: bool) -> str:
+    return f"{source} {'<->' if bidirected else '->'} {target}"
+
+
+def independence_text(a: str, b: str, given: Iterable[str]) -> str:
+    """`a` and `b` are independent given `c` (plain words, no symbol)."""
+    given = sorted(given)
+    tail = f" given {backticked(given)}" if given else ""
+    return f"`{a}` and `{b}` are independent{tail}"
+
+
+# -- the verdict's problems ------------------------------------------------------
+
+
+def problem_message(problem: Problem, verdict: Verdict) -> str:
+    """The message of one problem of a verdict, built from its fields."""
+    return _MESSAGES[problem.rule](problem, verdict)
+
+
+def _exposures(verdict: Verdict) -> str:
+    return backticked(sorted(verdict.exposure))
+
+
+def _adjusted_unmeasured(p: Problem, v: Verdict) -> str:
+    return (
+        f"`{p.variable}` is declared `unmeasured`, so the analysis cannot adjust for it; "
+        "remove it from `adjust:` or measure it and drop it from `unmeasured`"
+    )
+
+
+def _adjusted_mediator(p: Problem, v: Verdict) -> str:
+    shown = f": it lies on the causal path {spell_path(v.graph, p.path)}" if p.path else ""
+    return (
+        f"adjusting for `{p.variable}` blocks part of the effect (it is a mediator){shown}; "
+        "remove it from `adjust:` to estimate the total effect"
+    )
+
+
+def _adjusted_descendant(p: Problem, v: Verdict) -> str:
+    whose = "the outcome" if p.source_kind == "outcome" else "the mediator"
+    return (
+        f"`{p.variable}` is an effect of {whose} `{p.source}` "
+        f"({spell_path(v.graph, p.path)}); adjusting for it biases the estimate: "
+        "remove it from `adjust:`"
+    )
+
+
+def _collider_adjusted(p: Problem, v: Verdict) -> str:
+    path = p.path or ()
+    role = (
+        f"`{p.variable}` is a common effect of its two neighbours on that path (a collider)"
+        if p.collider == p.variable
+        else f"`{p.variable}` is an effect of `{p.collider}`, a common effect of its two "
+        "neighbours on that path (a collider)"
+    )
+    closers = sorted(
+        n
+        for i, n in enumerate(path[1:-1], start=1)
+        if n in v.fixable and not _is_collider_at(v.graph, path, i)
+    )
+    fix = (
+        f", or also adjust for {_one_of(tuple(closers))} to close that path again"
+        if closers
+        else ""
+    )
+    return (
+        f"adjusting for `{p.variable}` opens the path {spell_path(v.graph, path)}: {role}; "
+        f"remove it from `adjust:`{fix}"
+    )
+
+
+def _is_collider_at(graph, path, i: int) -> bool:
+    succ = graph.succ
+    return path[i] in succ[path[i - 1]] and path[i] in succ[path[i + 1]]
+
+
+def _open_biasing_path(p: Problem, v: Verdict) -> str:
+    head = (
+        f"the path {spell_path(v.graph, p.path)} is open: it carries confounding and nothing "
+        f"on it is adjusted for; adjusting for {_one_of(p.fixable)} would close it"
+    )
+    if v.identifiable:
+        sets = v.suggestions()
+        return head + (f"; valid adjustment sets: {format_sets(sets)}" if sets else "")
+    return (
+        head + "; no set of measured variables is fully valid here, and adjusting for "
+        f"{format_set(v.best_achievable)} closes every confounding path that measured "
+        "variables can close"
+    )
+
+
+def _one_of(names: tuple[str, ...]) -> str:
+    if len(names) == 1:
+        return f"`{names[0]}`"
+    return "any one of " + backticked(names)
+
+
+def _unmeasured_confounding(p: Problem, v: Verdict) -> str:
+    xs, ys = name_list(v.exposure), name_list(v.outcome)
+    shown = f": {spell_path(v.graph, p.path)} stays open whatever is adjusted" if p.path else ""
+    best = v.best_achievable
+    if best is None:
+        best_text = ""
+    elif best:
+        best_text = f"; the best that adjustment can do is {format_set(best)}"
+    else:
+        best_text = "; adjusting for measured variables cannot close it"
+    door = (
+        f"; the front-door criterion holds for {format_set(v.front_door)}, so the effect is "
+        "still identified through it (see `dagward identify`)"
+        if v.front_door
+        else ""
+    )
+    return (
+        f"no set of measured variables can block every biasing path from {xs} to {ys}"
+        f"{shown}{best_text}{door}; measure a variable on that path, choose another design, "
+        "or report a sensitivity analysis for the confounding that remains (the E-value, say)"
+    )
+
+
+def _instrument_adjusted(p: Problem, v: Verdict) -> str:
+    given = f"given {backticked(p.given)}, " if p.given else ""
+    return (
+        f"{given}`{p.variable}` is related to the outcome only through {_exposures(v)} "
+        "(it acts like an instrument): adjusting for it adds variance and can amplify bias "
+        "from unmeasured confounding; consider removing it from `adjust:`"
+    )
+
+
+def _no_causal_path(p: Problem, v: Verdict) -> str:
+    return (
+        f"no causal path leads from {name_list(v.exposure)} to {name_list(v.outcome)}: the "
+        "diagram says the effect is zero; add the missing arrow, or mark a negative-control "
+        "analysis with `# dagward: allow no-causal-path`"
+    )
+
+
+_MESSAGES = {
+    "adjusted-unmeasured": _adjusted_unmeasured,
+    "adjusted-mediator": _adjusted_mediator,
+    "adjusted-descendant": _adjusted_descendant,
+    "collider-adjusted": _collider_adjusted,
+    "open-biasing-path": _open_biasing_path,
+    "unmeasured-confounding": _unmeasured_confounding,
+    "instrument-adjusted": _instrument_adjusted,
+    "no-causal-path": _no_causal_path,
+}

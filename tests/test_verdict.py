@@ -1,0 +1,161 @@
+"""The one verdict per analysis, against brute-force oracles written from the definitions.
+
+Oracles (tests/test_causal_oracle.py) enumerate every simple path: d-separation
+as defined by Pearl (1988, "Probabilistic Reasoning in Intelligent Systems",
+ch. 3) and the adjustment criterion of Shpitser, VanderWeele & Robins (2010) /
+Perkovic et al. (2018). The rule semantics are those of rules.md:
+
+* open-biasing-path fires when the declared set leaves open a proper non-causal
+  path without colliders that has a *fixable* variable on it (measured, not
+  forbidden, not an exposure or outcome), whether or not a valid set exists;
+* collider-adjusted fires for z when some proper non-causal path open given Z
+  has a collider that is z or an ancestor of z.
+"""
+
+from __future__ import annotations
+
+import random
+
+from helpers.dag_text import to_dag_text
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+from test_causal_oracle import (
+    analysis_case,
+    blocked,
+    causal,
+    collider_reaching,
+    is_collider,
+    oracle_forbidden,
+    oracle_valid,
+    simple_paths,
+)
+
+from linter.api import check_covariates
+from linter.commands.adjustment import report_for
+from linter.engine import lint_source
+from linter.syntax import parse_source
+from linter.verdict import VALIDITY_RULES, Verdict
+
+MANY = settings(max_examples=1500, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+
+
+def _verdict(case):
+    text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z)
+    diagram, problem = parse_source(text, "random.dag")
+    assert problem is None
+    return text, diagram, Verdict(diagram, diagram.analyses[0])
+
+
+@MANY
+@given(analysis_case(max_nodes=8, max_roles=2))
+def test_verdict_matches_the_oracles(case):
+    text, diagram, verdict = _verdict(case)
+    G = diagram.graph
+    X, Y, Z = set(case.X), set(case.Y), set(case.Z)
+    paths = simple_paths(G, X, Y)  # every proper path, enumerated once
+    forbidden = oracle_forbidden(G, X, Y)
+    fixable = set(case.measured) - forbidden - X - Y
+    open_paths = [p for p in paths if not causal(G, p) and not blocked(G, p, Z)]
+    confounding = [
+        p for p in open_paths if not any(is_collider(G, p, i) for i in range(1, len(p) - 1))
+    ]
+
+    # validity: the verdict's problems are empty exactly for a valid set
+    valid = Z <= case.measured and not Z & forbidden and not open_paths
+    assert valid == oracle_valid(G, X, Y, Z)  # the shortcut above is the definition
+    assert verdict.declared_valid == valid
+    assert valid == (not verdict.problems), (text, verdict.problems)
+    assert {p.rule for p in verdict.problems} <= set(VALIDITY_RULES)
+    assert not {p.rule for p in verdict.notes} & set(VALIDITY_RULES)
+
+    # open-biasing-path: a fixable confounding path is open
+    expected = any(set(p[1:-1]) & fixable for p in confounding)
+    found = verdict.problems_of("open-biasing-path")
+    assert bool(found) == expected, text
+    for problem in found:
+        path = list(problem.path)
+        assert path in confounding, (text, path)
+        assert problem.fixable and set(problem.fixable) <= fixable & set(path[1:-1])
+        for v in problem.fixable:  # each variable it names closes the printed path
+            assert blocked(G, path, Z | {v}), (text, v)
+
+    # collider-adjusted: exact on small diagrams
+    expected_z = {z for z in Z if any(collider_reaching(G, p, z) for p in open_paths)}
+    colliders = {p.variable: p for p in verdict.problems_of("collider-adjusted")}
+    assert set(colliders) == expected_z, text
+    for z, problem in colliders.items():
+        assert list(problem.path) in open_paths
+        assert problem.collider in collider_reaching(G, list(problem.path), z)
+
+    # and `check` reports exactly what the verdict says
+    fired = lint_source(text, "random.dag").findings
+    for rule in VALIDITY_RULES:
+        assert len([f for f in fired if f.rule == rule]) == len(verdict.problems_of(rule))
+
+
+def _shuffled(text: str, seed: int) -> str:
+    """The same diagram with its statement lines (not the analysis block) shuffled."""
+    lines = text.splitlines()
+    cut = next(i for i, line in enumerate(lines) if line.startswith("analysis"))
+    head = lines[:cut]
+    random.Random(seed).shuffle(head)
+    return "\n".join(head + lines[cut:]) + "\n"
+
+
+def _what(text: str):
+    return sorted(
+        (f.rule, f.analysis, f.message, f.path, f.suggested_sets)
+        for f in lint_source(text, "random.dag").findings
+    )
+
+
+@settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(analysis_case(max_nodes=8, max_roles=2), st.integers(0, 2**32))
+def test_findings_do_not_depend_on_the_order_of_lines(case, seed):
+    text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z)
+    assert _what(text) == _what(_shuffled(text, seed))
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(analysis_case(max_nodes=8, max_roles=2))
+def test_check_adjustment_and_the_api_speak_the_same_verdict(tmp_path_factory, case):
+    text, diagram, verdict = _verdict(case)
+    findings = lint_source(text, "random.dag").findings
+    check_valid = not ({f.rule for f in findings} & set(VALIDITY_RULES))
+    report = report_for(diagram, diagram.analyses[0], 20)
+    path = tmp_path_factory.mktemp("api") / "random.dag"
+    path.write_text(text, "utf-8")
+    api = check_covariates(path, "question", sorted(case.Z))
+    api_valid = not ({f.rule for f in api} & set(VALIDITY_RULES))
+    assert check_valid == report["declared_valid"] == api_valid == verdict.declared_valid
+    assert report["problems"] == [p.to_dict(diagram.graph) for p in verdict.problems]
+
+
+def _finding_messages(path: str) -> dict[str, list[str]]:
+    from linter.engine import read_and_lint
+
+    out: dict[str, list[str]] = {}
+    for f in read_and_lint(path, __import__("linter.config").config.Settings()).findings:
+        out.setdefault(f.rule, []).append(f.message)
+    return out
+
+
+def test_instrument_message_names_the_adjusted_variables_it_relies_on():
+    messages = _finding_messages("tests/fixtures/verdict/instrument_given_other.dag")
+    (text,) = messages["instrument-adjusted"]
+    assert text.startswith("given `deprivation`, `urban` is related to the outcome only through")
+
+
+def test_mediator_witness_is_a_proper_causal_path():
+    messages = _finding_messages("tests/fixtures/verdict/mediator_of_two_exposures.dag")
+    (text,) = messages["adjusted-mediator"]
+    assert "x1 -> m -> w -> v -> y" in text and "x2 -> y" not in text
+
+
+def test_unmeasured_confounding_does_not_silence_a_closable_path():
+    messages = _finding_messages("tests/fixtures/verdict/confounder_beside_unmeasured.dag")
+    (text,) = messages["open-biasing-path"]
+    assert "cycling <- commute_distance -> sick_days" in text
+    assert "adjusting for `commute_distance` would close it" in text
+    (warning,) = messages["unmeasured-confounding"]
+    assert "the best that adjustment can do is {commute_distance}" in warning
