@@ -31,7 +31,7 @@ from .causal import (
     adjustment_exists,
     canonical_adjustment,
     collider_bias_paths,
-    confounding_path,
+    fixable_confounding_path,
     forbidden,
     front_door_set,
     instrument_conditions,
@@ -263,26 +263,11 @@ class Verdict:
         return colliders, self._confounding_with_fixable(Z)
 
     def _confounding_with_fixable(self, Z: frozenset[str]) -> tuple[str, ...] | None:
-        """A collider-free open path with a fixable variable (sound; large diagrams).
-
-        A collider-free path is open exactly when none of its variables is
-        adjusted, so a path found with extra variables treated as adjusted is
-        genuine. When a path has no fixable variable, its variables are treated
-        as adjusted and the search runs again, a bounded number of rounds.
-        """
-        G, X, Y = self.graph, self.exposure, self.outcome
-        walls = set(Z)
-        for _ in range(FIXABLE_ROUNDS):
-            path = confounding_path(G, X, Y, walls)
-            if path is None:
-                return None
-            inner = path[1:-1]
-            if any(v in self.fixable for v in inner):
-                return tuple(path)
-            if not inner:
-                return None
-            walls |= set(inner)
-        return None
+        """A collider-free open path with a fixable variable (sound; large diagrams)."""
+        path = fixable_confounding_path(
+            self.graph, self.exposure, self.outcome, Z, self.fixable, FIXABLE_ROUNDS
+        )
+        return None if path is None else tuple(path)
 
     def _fallback_problems(self, Z: frozenset[str]) -> list[Problem]:
         """The exact open-path witness, when the searches above named nothing.

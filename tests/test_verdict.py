@@ -159,3 +159,25 @@ def test_unmeasured_confounding_does_not_silence_a_closable_path():
     assert "adjusting for `commute_distance` would close it" in text
     (warning,) = messages["unmeasured-confounding"]
     assert "the best that adjustment can do is {commute_distance}" in warning
+
+
+@settings(max_examples=600, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(analysis_case(max_nodes=9, max_roles=2))
+def test_the_linear_search_for_large_diagrams_is_sound(case):
+    """Above the exact bound a sound search is used: whatever path it returns is
+    an open confounding path with a fixable variable on it (oracle check)."""
+    from linter.causal import fixable_confounding_path
+
+    G = case.G
+    X, Y, Z = set(case.X), set(case.Y), set(case.Z)
+    fixable = set(case.measured) - oracle_forbidden(G, X, Y) - X - Y
+    path = fixable_confounding_path(G, X, Y, Z, fixable)
+    confounding = [
+        p
+        for p in simple_paths(G, X, Y)
+        if not causal(G, p)
+        and not blocked(G, p, Z)
+        and not any(is_collider(G, p, i) for i in range(1, len(p) - 1))
+    ]
+    if path is not None:  # (its miss rate is measured by tests/bench_verdict.py)
+        assert path in confounding and set(path[1:-1]) & fixable
