@@ -13,7 +13,7 @@ compared per file (they depend on the diagram, not on the analysis).
 Verdicts: a declared set is *valid* when it meets the generalised adjustment
 criterion (Shpitser, VanderWeele & Robins 2010, "On the validity of covariate
 adjustment for estimating causal effects"; Perkovic et al. 2018) as computed by
-`linter.causal.is_valid_adjustment`; the findings the causal rules report for
+`dagward.causal.is_valid_adjustment`; the findings the causal rules report for
 the analysis are listed beside it. When a side has structure errors (a cycle, an
 unknown name...) its analyses are "not checked" and the reason is given.
 

@@ -13,12 +13,12 @@ own. A verdict answers, as structured data:
 * notes that do not bear on validity (an instrument-like adjusted variable, no
   causal path at all).
 
-Wording is built from these records in :mod:`linter.wording`; nothing here
+Wording is built from these records in :mod:`dagward.wording`; nothing here
 writes a sentence. Everything is computed lazily, so ``check`` on a valid
 analysis pays for one linear validity test and no more.
 
 Definitions (adjustment criterion; Shpitser, VanderWeele & Robins 2010;
-Perkovic et al. 2018) are those of :mod:`linter.causal.adjustment`.
+Perkovic et al. 2018) are those of :mod:`dagward.causal.adjustment`.
 """
 
 from __future__ import annotations
@@ -62,7 +62,7 @@ class Problem:
     """One reason a declared set is not valid, or one note about it.
 
     ``path`` lists graph nodes from an exposure to an outcome (hidden `<->`
-    parents included; :mod:`linter.wording` spells them).
+    parents included; :mod:`dagward.wording` spells them).
     """
 
     rule: str

@@ -18,14 +18,14 @@ import networkx as nx
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from linter.causal import (  # noqa: E402
+from dagward.causal import (  # noqa: E402
     collider_bias_paths,
     forbidden,
     hidden_node_name,
     open_path_witnesses,
 )
-from linter.model import Diagram  # noqa: E402
-from linter.verdict import Verdict  # noqa: E402
+from dagward.model import Diagram  # noqa: E402
+from dagward.verdict import Verdict  # noqa: E402
 
 
 def random_case(rng: random.Random, n: int):

@@ -19,8 +19,7 @@ from pathlib import Path
 
 import networkx as nx
 import pytest
-
-from linter.cli import main
+from dagward.cli import main
 
 WELLNESS = """\
 title "Wellness programme and sick days"
@@ -392,7 +391,7 @@ def test_cli_subprocess_exit_code(history):
     repo, shas = history
     env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1]))
     done = subprocess.run(
-        [os.sys.executable, "-m", "linter", "diff", "--base", shas["c1"]],
+        [os.sys.executable, "-m", "dagward", "diff", "--base", shas["c1"]],
         cwd=repo, capture_output=True, text=True, env=env,
     )  # fmt: skip
     assert done.returncode == 0, done.stderr
@@ -405,10 +404,10 @@ def test_the_causal_rules_path_is_used_when_reported():
     `check` shows), and the rule appears in the verdict."""
     from dataclasses import replace
 
-    from linter.diff import Side, compare
-    from linter.engine import lint_source
-    from linter.findings import Finding
-    from linter.model import Span
+    from dagward.diff import Side, compare
+    from dagward.engine import lint_source
+    from dagward.findings import Finding
+    from dagward.model import Span
 
     new_text = WELLNESS_2 + "enrolled <-> sick_days\n"
     old = Side("w.dag", lint_source(WELLNESS, "w.dag"))
@@ -432,7 +431,7 @@ def test_the_causal_rules_path_is_used_when_reported():
     reported = [r for r in a.remarks if r.startswith("now reported: ")]
     assert reported and "open-biasing-path" in reported[0]
     assert a.after.problems[0].path == ("enrolled", "<->", "sick_days")
-    from linter.diff import _verdict
+    from dagward.diff import _verdict
 
     assert _verdict(a.after).startswith("not valid (open-biasing-path")
     assert sorted(x.describe() for x in f.arrows_added) == [

@@ -18,9 +18,8 @@ from pathlib import Path
 import networkx as nx
 import pytest
 from clirunner import ROOT, dagward
-
-from linter.causal.graph import is_hidden
-from linter.syntax import parse_source
+from dagward.causal.graph import is_hidden
+from dagward.syntax import parse_source
 
 SAMPLES = ["wellness", "tree_canopy", "soil_amendment"]
 

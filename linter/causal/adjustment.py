@@ -416,7 +416,7 @@ def fixable_confounding_path(
     among its inner variables, or None.
 
     Sound, not complete (the exact answer needs a simple path through a chosen
-    vertex; see :mod:`linter.causal.bounded`): every walk the search accepts is
+    vertex; see :mod:`dagward.causal.bounded`): every walk the search accepts is
     shortcut and kept only when a fixable variable survives; when none does, the
     inner variables of the first path found are treated as adjusted (a
     collider-free path is open exactly when none of its variables is adjusted,
