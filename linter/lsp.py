@@ -111,12 +111,11 @@ def occurrence_at(diagram: Diagram, line: int, column: int) -> Occurrence | None
 
 
 def definition(diagram: Diagram, name: str) -> Span | None:
-    """The first appearance of a variable in the file (a `label` line counts);
-    None for a name that is no variable (say a misspelt name in an analysis)."""
-    if name not in diagram.variables:
-        return None
-    spans = [o.span for o in occurrences(diagram) if o.name == name]
-    return min(spans)
+    """The variable's first appearance: where it enters the diagram (an arrow,
+    `unmeasured` or `period` statement; a `label` does not create a variable),
+    as the rules and README define it. None for a name that is no variable."""
+    first = diagram.variables.get(name)
+    return None if first is None else first.span
 
 
 class RenameRefused(ValueError):

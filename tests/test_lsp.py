@@ -235,7 +235,8 @@ async def test_hover_definition_rename_completion_formatting(client: LanguageCli
         is None
     )
 
-    # go to definition from the analysis block: the first appearance is the label line
+    # go to definition from the analysis block: the first appearance is the first
+    # arrow naming it (a `label` line does not create a variable)
     exposure = DIAGRAM.splitlines()[ADJUST - 2]
     where = await client.text_document_definition_async(
         types.DefinitionParams(
@@ -244,7 +245,8 @@ async def test_hover_definition_rename_completion_formatting(client: LanguageCli
         )
     )
     assert where.uri == uri
-    assert where.range.start == types.Position(line=1, character=len("label "))
+    assert where.range.start == types.Position(line=3, character=line3.index("breakfast"))
+    assert DIAGRAM.splitlines()[1].startswith("label breakfast")  # earlier, not a definition
     # and for `scores` the first arrow naming it
     outcome = DIAGRAM.splitlines()[ADJUST - 1]
     where = await client.text_document_definition_async(
