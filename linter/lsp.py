@@ -315,6 +315,11 @@ def path_of(uri: str) -> str:
     return uri  # an unsaved buffer: its URI stands for the file name
 
 
+def is_diagram(uri: str, language_id: str | None) -> bool:
+    """A `.dag` file, or any buffer the editor calls `dag` (an unsaved one, say)."""
+    return language_id == "dag" or path_of(uri).endswith(".dag")
+
+
 def settings_for(path: str):
     """The settings `check` would use for this file: the nearest configuration
     upwards from the file's folder."""
@@ -332,6 +337,7 @@ class DiagramServer(LanguageServer):
         self.results: dict[str, FileResult] = {}
         self.last_good: dict[str, Diagram] = {}
         self.pending: dict[str, asyncio.TimerHandle] = {}
+        self.ignored: set[str] = set()  # open documents that are not diagrams
 
     # positions: our spans are 1-based code points; the client counts in its
     # negotiated encoding (UTF-16 unless it asked otherwise)
@@ -417,19 +423,28 @@ def build_server() -> DiagramServer:
 
     @server.feature(types.TEXT_DOCUMENT_DID_OPEN)
     def did_open(ls: DiagramServer, params: types.DidOpenTextDocumentParams) -> None:
-        ls.lint(params.text_document.uri)
+        doc = params.text_document
+        if is_diagram(doc.uri, doc.language_id):
+            ls.lint(doc.uri)
+        else:  # an editor set up with a broad file type sends other files too
+            ls.ignored.add(doc.uri)
 
     @server.feature(types.TEXT_DOCUMENT_DID_CHANGE)
     def did_change(ls: DiagramServer, params: types.DidChangeTextDocumentParams) -> None:
-        ls.schedule(params.text_document.uri)
+        if params.text_document.uri not in ls.ignored:
+            ls.schedule(params.text_document.uri)
 
     @server.feature(types.TEXT_DOCUMENT_DID_SAVE)
     def did_save(ls: DiagramServer, params: types.DidSaveTextDocumentParams) -> None:
-        ls.lint(params.text_document.uri)
+        if params.text_document.uri not in ls.ignored:
+            ls.lint(params.text_document.uri)
 
     @server.feature(types.TEXT_DOCUMENT_DID_CLOSE)
     def did_close(ls: DiagramServer, params: types.DidCloseTextDocumentParams) -> None:
         uri = params.text_document.uri
+        if uri in ls.ignored:
+            ls.ignored.discard(uri)
+            return
         handle = ls.pending.pop(uri, None)
         if handle is not None:
             handle.cancel()
@@ -451,6 +466,8 @@ def build_server() -> DiagramServer:
         return ls.results.get(uri)
 
     def name_at(ls: DiagramServer, uri: str, position: types.Position):
+        if uri in ls.ignored:
+            return None, None
         result = current(ls, uri)
         if result is None or result.diagram is None:
             return result, None
@@ -509,6 +526,8 @@ def build_server() -> DiagramServer:
     )
     def completion(ls: DiagramServer, params: types.CompletionParams) -> types.CompletionList:
         uri = params.text_document.uri
+        if uri in ls.ignored:
+            return types.CompletionList(is_incomplete=False, items=[])
         doc = ls.workspace.get_text_document(uri)
         line, column = ls.from_position(uri, params.position)
         good = ls.last_good.get(uri)
@@ -537,6 +556,8 @@ def build_server() -> DiagramServer:
         from .fmt import format_source
 
         uri = params.text_document.uri
+        if uri in ls.ignored:
+            return None
         doc = ls.workspace.get_text_document(uri)
         formatted, problem = format_source(doc.source, path_of(uri))
         if problem is not None or formatted is None:

@@ -315,6 +315,43 @@ async def test_hover_definition_rename_completion_formatting(client: LanguageCli
     assert edits is not None and len(edits) == 0
 
 
+@pytest.mark.asyncio
+async def test_other_files_are_left_alone_and_unsaved_diagrams_are_linted(
+    client: LanguageClient, tmp_path
+):
+    notes = (tmp_path / "notes.txt").as_uri()
+    client.text_document_did_open(
+        types.DidOpenTextDocumentParams(
+            text_document=types.TextDocumentItem(
+                uri=notes, language_id="plaintext", version=1, text="a -> b\nb -> a\n"
+            )
+        )
+    )
+    # an unsaved buffer the editor calls `dag`: linted under its own name
+    untitled = "untitled:Untitled-1"
+    got = await _next_diagnostics(
+        client,
+        lambda: client.text_document_did_open(
+            types.DidOpenTextDocumentParams(
+                text_document=types.TextDocumentItem(
+                    uri=untitled, language_id="dag", version=1, text="a -> b\nb -> a\n"
+                )
+            )
+        ),
+    )
+    # notifications arrive in order: had notes.txt been linted, it would have come first
+    assert got.uri == untitled
+    assert [d.code for d in got.diagnostics] == ["cycle"]
+    assert notes not in client.diagnostics
+    hover = await client.text_document_hover_async(
+        types.HoverParams(
+            text_document=types.TextDocumentIdentifier(uri=notes),
+            position=types.Position(line=0, character=0),
+        )
+    )
+    assert hover is None
+
+
 def _apply(text: str, edits: list[types.TextEdit]) -> str:
     """Apply LSP edits (ASCII text, so UTF-16 units are characters), last first."""
     lines = text.split("\n")
