@@ -338,6 +338,7 @@ class DiagramServer(LanguageServer):
         self.last_good: dict[str, Diagram] = {}
         self.pending: dict[str, asyncio.TimerHandle] = {}
         self.ignored: set[str] = set()  # open documents that are not diagrams
+        self.linted_version: dict[str, int | None] = {}
 
     # positions: our spans are 1-based code points; the client counts in its
     # negotiated encoding (UTF-16 unless it asked otherwise)
@@ -359,31 +360,58 @@ class DiagramServer(LanguageServer):
         return p.line + 1, p.character + 1
 
     def lint(self, uri: str) -> None:
+        """Lint the document as it is now and publish the findings (blocking)."""
         doc = self.workspace.get_text_document(uri)
-        path = path_of(uri)
+        self.publish(uri, doc.version, *compute(uri, doc.source))
+
+    def lint_in_background(self, uri: str) -> None:
+        """Lint in a worker thread, so a large diagram does not hold up hover or
+        completion; the findings are dropped if the text changed meanwhile."""
+        doc = self.workspace.get_text_document(uri)
+        version, source = doc.version, doc.source
+        loop = asyncio.get_running_loop()
+        future = loop.run_in_executor(None, compute, uri, source)
+
+        def done(f: asyncio.Future) -> None:
+            if f.cancelled():
+                return
+            if f.exception() is not None:  # a bug: say so in the editor's log
+                self.window_log_message(
+                    types.LogMessageParams(
+                        type=types.MessageType.Error,
+                        message=f"dagward: internal error while linting {uri}: {f.exception()!r}",
+                    )
+                )
+                return
+            if uri in self.workspace.text_documents and self.current_version(uri) == version:
+                self.publish(uri, version, *f.result())
+
+        future.add_done_callback(done)
+
+    def current_version(self, uri: str) -> int | None:
+        return self.workspace.get_text_document(uri).version
+
+    def publish(self, uri: str, version: int | None, result: FileResult, problem: str | None):
         diagnostics: list[types.Diagnostic] = []
-        try:
-            settings = settings_for(path)
-        except Exception as e:  # a configuration problem: say so, lint with defaults
-            settings = None
+        if problem is not None:
             diagnostics.append(
                 types.Diagnostic(
                     range=types.Range(
                         start=types.Position(line=0, character=0),
                         end=types.Position(line=0, character=1),
                     ),
-                    message=f"configuration problem, default settings used: {e}",
+                    message=f"configuration problem, default settings used: {problem}",
                     severity=types.DiagnosticSeverity.Warning,
                     source="dagward",
                 )
             )
-        result = lint_source(doc.source, path, settings)
         self.results[uri] = result
+        self.linted_version[uri] = version
         if result.diagram is not None:
             self.last_good[uri] = result.diagram
         diagnostics.extend(self.diagnostic(uri, f) for f in result.findings)
         self.text_document_publish_diagnostics(
-            types.PublishDiagnosticsParams(uri=uri, diagnostics=diagnostics, version=doc.version)
+            types.PublishDiagnosticsParams(uri=uri, diagnostics=diagnostics, version=version)
         )
 
     def diagnostic(self, uri: str, finding: Finding) -> types.Diagnostic:
@@ -415,7 +443,22 @@ class DiagramServer(LanguageServer):
     def _lint_now(self, uri: str) -> None:
         self.pending.pop(uri, None)
         if uri in self.workspace.text_documents:
-            self.lint(uri)
+            self.lint_in_background(uri)
+
+
+def compute(uri: str, source: str) -> tuple[FileResult, str | None]:
+    """What `check` finds in this text, with the file's configuration; a broken
+    configuration is reported and the defaults used. Touches no server state, so
+    it may run in a worker thread."""
+    from .config import ConfigError
+
+    path = path_of(uri)
+    problem = None
+    try:
+        settings = settings_for(path)
+    except ConfigError as e:
+        settings, problem = None, str(e)
+    return lint_source(source, path, settings), problem
 
 
 def build_server() -> DiagramServer:
@@ -450,6 +493,7 @@ def build_server() -> DiagramServer:
             handle.cancel()
         ls.results.pop(uri, None)
         ls.last_good.pop(uri, None)
+        ls.linted_version.pop(uri, None)
         ls.text_document_publish_diagnostics(
             types.PublishDiagnosticsParams(uri=uri, diagnostics=[])
         )
@@ -460,8 +504,7 @@ def build_server() -> DiagramServer:
         handle = ls.pending.pop(uri, None)
         if handle is not None:
             handle.cancel()
-            ls.lint(uri)
-        if uri not in ls.results:
+        if uri not in ls.results or ls.linted_version.get(uri) != ls.current_version(uri):
             ls.lint(uri)
         return ls.results.get(uri)
 

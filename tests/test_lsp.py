@@ -352,6 +352,45 @@ async def test_other_files_are_left_alone_and_unsaved_diagrams_are_linted(
     assert hover is None
 
 
+@pytest.mark.asyncio
+async def test_a_broken_configuration_is_reported_and_the_defaults_used(
+    client: LanguageClient, tmp_path
+):
+    (tmp_path / "pyproject.toml").write_text('[tool.dagward]\nfail_on = "error"\n', "utf-8")
+    uri = (tmp_path / "loop.dag").as_uri()
+    got = await _next_diagnostics(client, lambda: _open(client, uri, "a -> b\nb -> a\n"))
+    codes = [d.code for d in got.diagnostics]
+    assert codes[0] is None and codes[1:] == ["cycle"]
+    assert got.diagnostics[0].message.startswith("configuration problem, default settings used:")
+    assert "unknown key `fail_on`" in got.diagnostics[0].message
+
+
+@pytest.mark.asyncio
+async def test_positions_are_counted_in_utf16_units(client: LanguageClient, tmp_path):
+    """LSP counts columns in UTF-16 code units unless the client asks otherwise; a
+    letter outside the Basic Multilingual Plane (here U+1D465, a mathematical x) is
+    two units but one character of ours."""
+    text = "\U0001d465\U0001d465 -> yy, yy\n"  # the second yy repeats an arrow
+    path = tmp_path / "astral.dag"
+    uri = path.as_uri()
+    got = await _next_diagnostics(client, lambda: _open(client, uri, text))
+    (dup,) = [d for d in got.diagnostics if d.code == "duplicate-arrow"]
+    # the repeated arrow ends after the second yy: 12 characters, 14 units; the
+    # first statement of it ends after the first yy: 8 characters, 10 units
+    assert (dup.range.start.character, dup.range.end.character) == (0, 14)
+    (first,) = dup.related_information
+    assert (first.location.range.start.character, first.location.range.end.character) == (0, 10)
+    edit = await client.text_document_rename_async(
+        types.RenameParams(
+            text_document=types.TextDocumentIdentifier(uri=uri),
+            position=types.Position(line=0, character=9),  # inside the first yy
+            new_name="zz",
+        )
+    )
+    starts = sorted(e.range.start.character for e in edit.changes[uri])
+    assert starts == [8, 12]
+
+
 def _apply(text: str, edits: list[types.TextEdit]) -> str:
     """Apply LSP edits (ASCII text, so UTF-16 units are characters), last first."""
     lines = text.split("\n")

@@ -39,6 +39,11 @@ def run(args: argparse.Namespace) -> int:
             f"the language server needs pygls and lsprotocol ({e.name} is missing); "
             "install dagward with the `lsp` extra, e.g. pip install -e '.[lsp]' in a clone"
         ) from None
+    # `dagward` turns the cycle collector off for its short runs (linter/cli.py);
+    # a server runs for hours, and its protocol objects do form cycles
+    import gc
+
+    gc.enable()
     serve()
     if sys.stdout.closed:  # the server closes the pipe on `exit`; the CLI flushes after us
         sys.stdout = open(os.devnull, "w")  # noqa: SIM115
