@@ -431,3 +431,86 @@ def test_completion_offers_statement_keywords_at_top_level_and_names_being_typed
     names = [w for w, kind in words if kind == "variable"]
     # names typed since the last good parse are offered, the half-typed word is not
     assert names == ["income", "breakfast", "new_thing"]
+
+
+def test_hover_paths_match_a_brute_force_oracle():
+    """The open paths the hover lists through a variable, against every simple path
+    of small random diagrams judged straight from the definition of a blocked path
+    (Pearl 1988, Probabilistic Reasoning in Intelligent Systems, ch. 3, from memory:
+    a path is blocked by a non-collider in Z, or by a collider that is not in Z and
+    has no descendant in Z)."""
+    import random
+
+    import networkx as nx
+
+    from linter.engine import lint_source
+    from linter.lsp import PATHS_SHOWN, hover_markdown
+
+    rng = random.Random(20261202)
+    checked = with_paths = 0
+    for _ in range(60):
+        n = rng.randint(5, 8)
+        names = [f"v{i}" for i in range(n)]
+        arrows = [
+            (a, b) for i, a in enumerate(names) for b in names[i + 1 :] if rng.random() < 0.35
+        ]
+        if not arrows:
+            continue
+        x, y = rng.sample(names, 2)
+        x, y = sorted((x, y), key=names.index)  # exposure before outcome in the order
+        rest = [v for v in names if v not in (x, y)]
+        adjust = rng.sample(rest, rng.randint(0, 2))
+        # the period line makes every name a variable, also one without arrows
+        lines = [f"{a} -> {b}" for a, b in arrows] + [f"period all: {', '.join(names)}"]
+        text = "\n".join(lines) + "\n"
+        text += f"analysis a {{\n  exposure: {x}\n  outcome: {y}\n"
+        text += f"  adjust: {', '.join(adjust) if adjust else 'none'}\n}}\n"
+        result = lint_source(text, "random.dag")
+        if not result.causal_ran:
+            continue
+        g = nx.DiGraph(arrows)
+        g.add_nodes_from(names)
+        z = set(adjust)
+
+        every = list(nx.all_simple_paths(g.to_undirected(), x, y))
+        for v in rest:
+            expected = sorted(
+                f"- `{_spell(g, p)} ({'causal' if _causal(g, p) else 'not causal'})`"
+                for p in every
+                if v in p[1:-1] and _path_open(g, p, z)
+            )
+            shown = sorted(
+                line for line in hover_markdown(result, v).splitlines() if line.startswith("- ")
+            )
+            if len(expected) <= PATHS_SHOWN:
+                assert shown == expected, (text, v)
+            else:
+                assert len(shown) == PATHS_SHOWN and set(shown) <= set(expected), (text, v)
+            checked += 1
+            with_paths += bool(expected)
+    assert checked > 100 and with_paths > 50
+
+
+def _path_open(g, path: list[str], z: set[str]) -> bool:
+    """The definition of an open path (see the oracle test's docstring)."""
+    import networkx as nx
+
+    for i in range(1, len(path) - 1):
+        a, v, b = path[i - 1], path[i], path[i + 1]
+        if g.has_edge(a, v) and g.has_edge(b, v):  # a collider
+            if v not in z and not (nx.descendants(g, v) & z):
+                return False
+        elif v in z:
+            return False
+    return True
+
+
+def _causal(g, path: list[str]) -> bool:
+    return all(g.has_edge(a, b) for a, b in zip(path, path[1:], strict=False))
+
+
+def _spell(g, path: list[str]) -> str:
+    out = path[0]
+    for a, b in zip(path, path[1:], strict=False):
+        out += f" -> {b}" if g.has_edge(a, b) else f" <- {b}"
+    return out
