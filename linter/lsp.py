@@ -320,20 +320,31 @@ def is_diagram(uri: str, language_id: str | None) -> bool:
     return language_id == "dag" or path_of(uri).endswith(".dag")
 
 
-def settings_for(path: str):
-    """The settings `check` would use for this file: the nearest configuration
-    upwards from the file's folder."""
+@dataclass(frozen=True)
+class Options:
+    """The server's command-line options, applied as `check` applies them."""
+
+    config: str | None = None
+    enable: tuple[str, ...] = ()
+    disable: tuple[str, ...] = ()
+
+
+def settings_for(path: str, options: Options = Options()):
+    """The settings `check` would use for this file: `--config`, or the nearest
+    configuration upwards from the file's folder; then --enable/--disable."""
     from .config import load_settings
 
     folder = Path(path).parent if Path(path).parent.is_dir() else Path.cwd()
-    return load_settings(cwd=folder)
+    settings = load_settings(options.config, cwd=folder)
+    return settings.with_overrides(list(options.enable), list(options.disable))
 
 
 class DiagramServer(LanguageServer):
     """Keeps the last lint result of each open document."""
 
-    def __init__(self) -> None:
+    def __init__(self, options: Options = Options()) -> None:
         super().__init__("dagward", __version__)
+        self.options = options
         self.results: dict[str, FileResult] = {}
         self.last_good: dict[str, Diagram] = {}
         self.pending: dict[str, asyncio.TimerHandle] = {}
@@ -362,7 +373,7 @@ class DiagramServer(LanguageServer):
     def lint(self, uri: str) -> None:
         """Lint the document as it is now and publish the findings (blocking)."""
         doc = self.workspace.get_text_document(uri)
-        self.publish(uri, doc.version, *compute(uri, doc.source))
+        self.publish(uri, doc.version, *compute(uri, doc.source, self.options))
 
     def lint_in_background(self, uri: str) -> None:
         """Lint in a worker thread, so a large diagram does not hold up hover or
@@ -370,7 +381,7 @@ class DiagramServer(LanguageServer):
         doc = self.workspace.get_text_document(uri)
         version, source = doc.version, doc.source
         loop = asyncio.get_running_loop()
-        future = loop.run_in_executor(None, compute, uri, source)
+        future = loop.run_in_executor(None, compute, uri, source, self.options)
 
         def done(f: asyncio.Future) -> None:
             if f.cancelled():
@@ -446,7 +457,7 @@ class DiagramServer(LanguageServer):
             self.lint_in_background(uri)
 
 
-def compute(uri: str, source: str) -> tuple[FileResult, str | None]:
+def compute(uri: str, source: str, options: Options) -> tuple[FileResult, str | None]:
     """What `check` finds in this text, with the file's configuration; a broken
     configuration is reported and the defaults used. Touches no server state, so
     it may run in a worker thread."""
@@ -455,14 +466,14 @@ def compute(uri: str, source: str) -> tuple[FileResult, str | None]:
     path = path_of(uri)
     problem = None
     try:
-        settings = settings_for(path)
+        settings = settings_for(path, options)
     except ConfigError as e:
         settings, problem = None, str(e)
     return lint_source(source, path, settings), problem
 
 
-def build_server() -> DiagramServer:
-    server = DiagramServer()
+def build_server(options: Options = Options()) -> DiagramServer:
+    server = DiagramServer(options)
 
     @server.feature(types.TEXT_DOCUMENT_DID_OPEN)
     def did_open(ls: DiagramServer, params: types.DidOpenTextDocumentParams) -> None:
@@ -621,5 +632,5 @@ class RenameRefusedError(JsonRpcException):
     CODE = -32803  # LSP `RequestFailed`: the request was valid but could not be done
 
 
-def serve() -> None:
-    build_server().start_io()
+def serve(options: Options = Options()) -> None:
+    build_server(options).start_io()

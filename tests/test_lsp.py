@@ -64,6 +64,32 @@ async def client(lsp_client: LanguageClient):
     await lsp_client.shutdown_session()
 
 
+@pytest_lsp.fixture(
+    config=ClientServerConfig(
+        server_command=[
+            sys.executable, "-m", "linter", "language-server",
+            "--enable", "arrow-without-reason", "--disable", "adjusted-mediator",
+        ]
+    )
+)  # fmt: skip
+async def client_with_options(lsp_client: LanguageClient):
+    await lsp_client.initialize_session(
+        types.InitializeParams(capabilities=types.ClientCapabilities())
+    )
+    yield
+    await lsp_client.shutdown_session()
+
+
+@pytest.mark.asyncio
+async def test_command_line_rule_options_apply(client_with_options: LanguageClient, tmp_path):
+    client = client_with_options
+    uri = (tmp_path / "breakfast.dag").as_uri()  # no configuration file anywhere above
+    got = await _next_diagnostics(client, lambda: _open(client, uri, DIAGRAM))
+    codes = {d.code for d in got.diagnostics}
+    assert "arrow-without-reason" in codes  # opt-in rule turned on
+    assert "adjusted-mediator" not in codes  # and a default one off
+
+
 def _check_json(path: Path) -> list[tuple]:
     done = subprocess.run(
         [sys.executable, "-m", "linter", "check", "--format", "json", path.name],
@@ -514,3 +540,17 @@ def _spell(g, path: list[str]) -> str:
     for a, b in zip(path, path[1:], strict=False):
         out += f" -> {b}" if g.has_edge(a, b) else f" <- {b}"
     return out
+
+
+def test_without_the_lsp_extra_the_command_says_how_to_install_it():
+    # a fresh interpreter in which pygls cannot be imported (as without the extra)
+    code = (
+        "import sys; sys.modules['pygls'] = None; sys.argv = ['dagward', 'language-server']; "
+        "from linter.cli import run; run()"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert done.returncode == 2
+    assert done.stdout == ""
+    assert done.stderr.count("\n") == 1
+    assert "pygls" in done.stderr and "`lsp` extra" in done.stderr
+    assert "Traceback" not in done.stderr

@@ -17,7 +17,7 @@ HELP = (
     "appearance, rename a variable everywhere in the file, completion of variable names "
     "and keys, and formatting as `fmt` does. Needs the `lsp` extra (pygls, lsprotocol)."
 )
-FORMATS = ("text",)
+FORMATS = ("text",)  # no report: --config, --enable and --disable apply to the findings
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -33,7 +33,7 @@ def run(args: argparse.Namespace) -> int:
     from ..errors import UsageProblem
 
     try:
-        from ..lsp import serve
+        from ..lsp import Options, serve
     except ImportError as e:
         raise UsageProblem(
             f"the language server needs pygls and lsprotocol ({e.name} is missing); "
@@ -44,7 +44,13 @@ def run(args: argparse.Namespace) -> int:
     import gc
 
     gc.enable()
-    serve()
+    options = Options(args.config, tuple(args.enable), tuple(args.disable))
+    if args.config is not None or args.enable or args.disable:
+        # a bad option is a usage error now, not a diagnostic in every file later
+        from ..config import load_settings
+
+        load_settings(args.config).with_overrides(args.enable, args.disable)
+    serve(options)
     if sys.stdout.closed:  # the server closes the pipe on `exit`; the CLI flushes after us
         sys.stdout = open(os.devnull, "w")  # noqa: SIM115
     return 0
