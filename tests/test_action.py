@@ -472,3 +472,26 @@ def test_install_step_installs_dagward_from_the_actions_checkout(tmp_path):
     version = subprocess.run([str(Path(bin_dir) / "dagward"), "--version"],
                              capture_output=True, text=True, check=True)  # fmt: skip
     assert version.stdout.startswith("dagward ")
+
+
+def test_readme_workflow_uses_the_action_as_it_is():
+    """The workflow the README offers for copying: valid YAML, the permissions the
+    action needs, and only inputs the action has (the commented-out ones too)."""
+    readme = (CHECKOUT / "README.md").read_text("utf-8")
+    block = readme.split("# .github/workflows/causal-diagrams.yml\n", 1)[1].split("```", 1)[0]
+    workflow = yaml.safe_load(block)
+    assert workflow["permissions"] == {
+        "contents": "read",
+        "security-events": "write",
+        "actions": "read",
+        "pull-requests": "write",
+    }
+    (step,) = [s for s in workflow["jobs"]["dagward"]["steps"] if "dagward" in s.get("uses", "")]
+    assert step["uses"] == "OWNER/dagward@COMMIT_SHA"  # README says to put a full SHA here
+    inputs = set(_action()["inputs"])
+    assert set(step["with"]) <= inputs
+    commented = re.findall(r"^\s+# ([a-z-]+):", block, flags=re.M)
+    assert commented and set(commented) <= inputs
+    checkout = workflow["jobs"]["dagward"]["steps"][0]
+    assert checkout["uses"].startswith("actions/checkout@")
+    assert checkout["with"]["fetch-depth"] == 0
