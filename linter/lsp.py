@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import asyncio
 import re
+import weakref
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -30,6 +31,7 @@ from pygls.lsp.server import LanguageServer
 
 from .engine import FileResult, lint_source
 from .findings import Finding
+from .gcpause import collector_paused
 from .model import (
     RESERVED_WORDS,
     Analysis,
@@ -100,12 +102,40 @@ def occurrences(diagram: Diagram) -> list[Occurrence]:
     return out
 
 
+@dataclass(frozen=True)
+class NameIndex:
+    """The occurrences of one parsed buffer by line and by name, built once, so
+    a hover or a rename on a large diagram does not walk the whole file again."""
+
+    by_line: dict[int, tuple[Occurrence, ...]]
+    by_name: dict[str, tuple[Span, ...]]
+
+
+_INDEXES: weakref.WeakKeyDictionary[Diagram, NameIndex] = weakref.WeakKeyDictionary()
+
+
+def name_index(diagram: Diagram) -> NameIndex:
+    found = _INDEXES.get(diagram)
+    if found is None:
+        by_line: dict[int, list[Occurrence]] = {}
+        by_name: dict[str, list[Span]] = {}
+        with collector_paused():  # many small objects, no cycles (see linter/gcpause.py)
+            for o in occurrences(diagram):
+                by_line.setdefault(o.span.line, []).append(o)
+                by_name.setdefault(o.name, []).append(o.span)
+            found = NameIndex(
+                {k: tuple(v) for k, v in by_line.items()},
+                {k: tuple(v) for k, v in by_name.items()},
+            )
+        _INDEXES[diagram] = found
+    return found
+
+
 def occurrence_at(diagram: Diagram, line: int, column: int) -> Occurrence | None:
     """The variable name at a 1-based line and column (the end of a name counts,
     so a cursor just after the last letter still finds it)."""
-    for o in occurrences(diagram):
-        s = o.span
-        if s.line == line and s.column <= column <= s.end_column:
+    for o in name_index(diagram).by_line.get(line, ()):
+        if o.span.column <= column <= o.span.end_column:
             return o
     return None
 
@@ -134,7 +164,7 @@ def rename_spans(diagram: Diagram, old: str, new: str) -> list[Span]:
         raise RenameRefused(f"`{new}` is a keyword of the diagram language")
     if new != old and new in diagram.variables:
         raise RenameRefused(f"`{new}` is already a variable of this diagram")
-    return [o.span for o in occurrences(diagram) if o.name == old]
+    return list(name_index(diagram).by_name.get(old, ()))
 
 
 # --- hover --------------------------------------------------------------------------
@@ -469,7 +499,11 @@ def compute(uri: str, source: str, options: Options) -> tuple[FileResult, str | 
         settings = settings_for(path, options)
     except ConfigError as e:
         settings, problem = None, str(e)
-    return lint_source(source, path, settings), problem
+    with collector_paused():
+        result = lint_source(source, path, settings)
+    if result.diagram is not None:
+        name_index(result.diagram)  # ready before the first hover
+    return result, problem
 
 
 def build_server(options: Options = Options()) -> DiagramServer:
