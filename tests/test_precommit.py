@@ -227,3 +227,24 @@ def test_pre_commit_on_python_310(tmp_path):
     output = done.stdout + done.stderr
     assert done.returncode == 1, output
     assert "bad.dag:2:1: error [cycle]" in output
+
+
+def test_readme_pre_commit_config_names_our_hooks():
+    """The configuration the README offers for copying parses and names hooks that
+    exist; it pins a commit (there are no release tags to point at)."""
+    import yaml
+
+    readme = (CHECKOUT / "README.md").read_text("utf-8")
+    block = readme.split("```yaml\nrepos:\n", 1)[1].split("```", 1)[0]
+    config = yaml.safe_load("repos:\n" + block)
+    (repo,) = config["repos"]
+    assert repo["rev"] == "COMMIT_SHA"
+    assert "full 40-character SHA" in readme
+    # any version tag the README points at must exist in the repository
+    import re
+
+    tags = subprocess.run(["git", "tag"], cwd=CHECKOUT, capture_output=True, text=True)
+    named = set(re.findall(r"(?:rev: |dagward@)(v\d+(?:\.\d+)*)", readme))
+    assert named <= set(tags.stdout.split()), named
+    ids = {h["id"] for h in _hooks()}
+    assert {h["id"] for h in repo["hooks"]} == ids
