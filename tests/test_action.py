@@ -495,3 +495,16 @@ def test_readme_workflow_uses_the_action_as_it_is():
     checkout = workflow["jobs"]["dagward"]["steps"][0]
     assert checkout["uses"].startswith("actions/checkout@")
     assert checkout["with"]["fetch-depth"] == 0
+
+
+def test_missing_dagward_fails_the_job_with_one_clear_line(study, tmp_path):
+    """The install step failed: the check step says so instead of a traceback."""
+    repo, _ = study
+    only_python = tmp_path / "only-python"
+    only_python.mkdir()
+    (only_python / "python").symlink_to(sys.executable)  # no `dagward` beside it
+    runner = Runner(tmp_path, repo, "push", {})
+    runner.path = [runner.path[0], str(only_python)]
+    assert runner.run({}) == 2
+    assert "::error::dagward is not on PATH: did the install step fail?" in runner.stdout
+    assert "Traceback" not in runner.stdout

@@ -87,6 +87,16 @@ def install() -> int:
 
 def check() -> int:
     """Run `dagward check`; never fails the step (the status goes to `finish`)."""
+    try:
+        return _check()
+    except FileNotFoundError:
+        _say("error", "dagward is not on PATH: did the install step fail?")
+        _set_output("status", "2")
+        _set_output("sarif-file", "")
+        return 0
+
+
+def _check() -> int:
     common = ["--fail-on", _input("fail-on", "error")]
     if _input("data"):
         common += ["--data", _input("data")]
@@ -170,8 +180,9 @@ def comment() -> int:
     failed job (a pull request from a fork gets a read-only token)."""
     try:
         return _comment()
-    except RuntimeError as e:
-        _say("warning", f"dagward did not comment on the pull request: {e}")
+    except (RuntimeError, OSError, ValueError, KeyError) as e:
+        # ValueError: gh printed no JSON; KeyError: an event without the usual fields
+        _say("warning", f"dagward did not comment on the pull request: {e!s}")
         return 0
 
 
