@@ -175,7 +175,13 @@ async def test_diagnostics_follow_the_edits_and_match_check(client: LanguageClie
                       "breakfast -> -> scores")  # fmt: skip
 
     edited = await _next_diagnostics(client, burst)
-    assert edited.version == 4
+    versions = [edited.version]
+    while edited.version != 4:  # a very slow machine may lint an in-between text
+        edited = await _next_diagnostics(client, lambda: None)
+        versions.append(edited.version)
+    # debounced: the three edits arrive within a few milliseconds, well inside the
+    # quiet time, so not every one of them is linted
+    assert len(versions) < 3, versions
     assert [(d.code, d.range.start.line) for d in edited.diagnostics] == [("syntax-error", 7)]
     assert edited.diagnostics[0].severity == types.DiagnosticSeverity.Error
 
