@@ -61,3 +61,12 @@ def test_wheel_install_into_fresh_venv_runs_check_from_another_directory(tmp_pat
         cwd=work, capture_output=True, text=True,
     )  # fmt: skip
     assert names.stdout.split() == ["True", "True"], names.stderr
+
+
+def test_the_version_is_the_same_in_pyproject_and_the_package():
+    import tomllib
+
+    from dagward import __version__
+
+    with open(ROOT / "pyproject.toml", "rb") as handle:
+        assert tomllib.load(handle)["project"]["version"] == __version__
