@@ -23,7 +23,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     ),
     "paths": ("linter.commands.paths", "every path between exposure and outcome, and its status"),
     "diff": ("linter.commands.diff", "what a change to the diagrams means, between git revisions"),
-    "render": ("linter.commands.render", "draw a diagram (.dot, .mmd, .svg, .png)"),
+    "render": ("linter.commands.render", "draw a diagram (.dot, .mmd, .svg, .png, .pdf, .eps)"),
     "fmt": ("linter.commands.fmt", "rewrite diagram files in the canonical layout"),
 }
 

@@ -290,8 +290,8 @@ def test_search_agrees_with_the_shared_listing():
 
     for name in SAMPLES:
         diagram = load(name)
-        calls = []
-        listing = find_independencies(diagram, None, lambda *a: calls.append(a))
+        calls: list[tuple[int, int, int]] = []
+        listing = find_independencies(diagram, None, lambda *a, calls=calls: calls.append(a))
         assert listing.independencies == implied(diagram) and not listing.cut
         n = len(diagram.measured)
         assert calls[-1] == (n * (n - 1) // 2, n * (n - 1) // 2, len(listing.independencies))

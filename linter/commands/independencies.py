@@ -68,6 +68,7 @@ HELP = (
 )
 FORMATS = ("text", "json")
 
+
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("file", metavar="FILE", help="the diagram")
     p.add_argument("--data", metavar="CSV", help="test each independence against this data")
