@@ -326,3 +326,17 @@ def test_progress_only_on_a_terminal():
     assert "looking for implied independencies:" in text and "pairs examined" in text
     assert text.endswith("\r\x1b[K")  # the line is cleared when done
     assert proc.stdout.decode() == piped.out  # stdout is the same either way
+
+
+@pytest.mark.parametrize("name", ["forest.png", "forest.pdf", "forest"])
+def test_plot_is_never_svg_under_another_name(tmp_path, name):
+    out = tmp_path / name
+    run = dagward("independencies", "samples/wellness.dag", "--data", EXTRA_ARROW,
+                  "--plot", str(out))  # fmt: skip
+    assert run.code == 2 and len(run.err.splitlines()) == 1
+    assert "drawn as SVG only, so name it OUT.svg" in run.err and run.out == ""
+    assert list(tmp_path.iterdir()) == []
+    svg = tmp_path / "forest.SVG"  # the extension in any case
+    assert dagward("independencies", "samples/wellness.dag", "--data", EXTRA_ARROW,
+                   "--plot", str(svg), "-q").code == 0  # fmt: skip
+    assert svg.read_bytes().startswith(b"<svg")

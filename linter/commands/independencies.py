@@ -173,6 +173,12 @@ def run(args: argparse.Namespace) -> int:
     settings = settings_from(args)
     if args.plot and not args.data:
         raise UsageProblem("--plot needs --data (the plot shows the tests' effects)")
+    if args.plot and not args.plot.lower().endswith(".svg"):
+        # Only SVG is drawn: never write SVG bytes under another format's name.
+        raise UsageProblem(
+            f"the forest plot is drawn as SVG only, so name it OUT.svg, not `{args.plot}` "
+            "(a browser or vector editor converts SVG to PNG or PDF)"
+        )
     result = load_clean(args.file, settings)
     diagram = result.diagram
     from ..data import DataOptions
