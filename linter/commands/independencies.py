@@ -72,12 +72,13 @@ FORMATS = ("text", "json")
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("file", metavar="FILE", help="the diagram")
     p.add_argument("--data", metavar="CSV", help="test each independence against this data")
-    p.add_argument("--alpha", type=float, default=0.05,
+    p.add_argument("--alpha", type=float, default=0.05, metavar="A",
                    help="level for Holm-adjusted p values (default 0.05)")  # fmt: skip
-    p.add_argument("--min-effect", type=float, default=0.1,
+    p.add_argument("--min-effect", type=float, default=0.1, metavar="R",
                    help="smallest |effect| that counts as a rejection (default 0.1)")  # fmt: skip
     p.add_argument("--method", choices=("pearson", "spearman"), default="pearson",
-                   help="correlation for numeric columns (default pearson)")  # fmt: skip
+                   help="correlation for numeric columns: pearson (linear) or spearman "
+                   "(ranks; default pearson)")  # fmt: skip
     p.add_argument(
         "--plot", metavar="OUT.svg", help="write a forest plot of the effects (with --data)"
     )

@@ -33,7 +33,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--analysis", metavar="NAME", help="the analysis whose roles and paths "
                    "are drawn (default: the first)")  # fmt: skip
     p.add_argument("-o", dest="short_output", metavar="OUT",
-                   help=f"the picture to write: OUT{SUPPORTED.replace(', ', ', OUT')}")  # fmt: skip
+                   help=f"the picture to write, named {SUPPORTED} (as --output)")  # fmt: skip
     p.add_argument("--dpi", type=int, default=None, metavar="N",
                    help="resolution of a .png in dots per inch (default 144)")  # fmt: skip
     p.add_argument("--font", metavar="FAMILY", default=None,
