@@ -517,6 +517,7 @@ def test_forest_plot_is_xml_with_one_labelled_row_per_test() -> None:
     rows = [g for g in root.iter(f"{SVG}g") if g.get("class") == "test-row"]
     words = [claim_text(t.a, t.b, t.given) for t in tests]
     assert words[0] == "a and b, holding fixed c" and words[1] == "a and d"
+    assert [t.label() for t in tests] == words  # no symbol anywhere a claim is named
     assert [g.get("data-label") for g in rows] == words
     for g, test, result in zip(rows, tests, results, strict=True):
         texts = ["".join(t.itertext()) for t in g.iter(f"{SVG}text")]
