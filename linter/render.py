@@ -377,8 +377,16 @@ def caption(pic: Picture) -> list[str]:
     return [line for line in (caption_head(pic), "; ".join(roles), "; ".join(lines_key)) if line]
 
 
-def to_dot(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
-    """Graphviz DOT text: periods are ranks from left to right (rankdir=LR)."""
+def to_dot(
+    pic: Picture,
+    options: RenderOptions = RenderOptions(),
+    title_places: dict[int, str] | None = None,
+) -> str:
+    """Graphviz DOT text: periods are ranks from left to right (rankdir=LR).
+
+    `title_places` puts the title of period i (from 1) at the left (`l`) or right
+    (`r`) of its band's top instead of the centre (see `place_band_titles`).
+    """
     out = [f"digraph {_dot_id(pic.title or 'diagram')} {{"]
     font = _dot_id(options.font)
     label = ""
@@ -399,9 +407,11 @@ def to_dot(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
         flat = not any(a in member_set and b in member_set for a, b in inner)
         ids = " ".join(f"{_dot_id(m)};" for m in members)
         same = " rank=same;" if flat else ""
+        just = (title_places or {}).get(i)
+        just = f" labeljust={just};" if just in ("l", "r") else ""
         out.append(
             f"  subgraph {_dot_id(f'cluster_period_{i}')} {{ label=<<B>{_html(period)}</B>>; "
-            f'labelloc=t; style="rounded"; color="{BAND_COLOR}"; penwidth=0.8; margin=12; '
+            f'labelloc=t;{just} style="rounded"; color="{BAND_COLOR}"; penwidth=0.8; margin=12; '
             f'class="period";{same} {ids} }}'
         )
     for i, ((_, before), (_, after)) in enumerate(
@@ -524,15 +534,19 @@ def run_graphviz(dot_text: str, fmt: str, dpi: int = DEFAULT_DPI) -> bytes:
     """SVG, PNG, PDF or EPS bytes from DOT text via Graphviz's `dot` program."""
     if fmt not in GRAPHVIZ_FORMATS:
         raise ValueError(fmt)
+    options = [f"-T{fmt}"] + ([f"-Gdpi={dpi}"] if fmt == "png" else [])
+    data = _graphviz_bytes(dot_text, options)
+    _check_magic(data, fmt)
+    return data
+
+
+def _graphviz_bytes(dot_text: str, options: list[str]) -> bytes:
     program = shutil.which("dot")
     if program is None:
         raise GraphvizMissing(INSTALL_GRAPHVIZ)
-    command = [program, f"-T{fmt}"]
-    if fmt == "png":
-        command.append(f"-Gdpi={dpi}")
     try:
         proc = subprocess.run(
-            command, input=dot_text.encode("utf-8"), capture_output=True, timeout=300
+            [program, *options], input=dot_text.encode("utf-8"), capture_output=True, timeout=300
         )
     except OSError as e:
         raise UsageProblem(f"cannot run Graphviz `dot` ({program}): {e.strerror or e}") from None
@@ -542,7 +556,6 @@ def run_graphviz(dot_text: str, fmt: str, dpi: int = DEFAULT_DPI) -> bytes:
         message = proc.stderr.decode("utf-8", "replace").strip().splitlines()
         first = message[0] if message else f"exit status {proc.returncode}"
         raise UsageProblem(f"Graphviz `dot` failed: {first}")
-    _check_magic(proc.stdout, fmt)
     return proc.stdout
 
 
@@ -564,6 +577,86 @@ def _check_magic(data: bytes, fmt: str) -> None:
         )
 
 
+def _bezier_points(points: list[list[float]], steps: int = 24):
+    """Points along the cubic Bezier pieces of a Graphviz spline (common practice)."""
+    for i in range(0, len(points) - 3, 3):
+        (x0, y0), (x1, y1), (x2, y2), (x3, y3) = points[i : i + 4]
+        for k in range(steps + 1):
+            t = k / steps
+            u = 1 - t
+            yield (
+                u**3 * x0 + 3 * u * u * t * x1 + 3 * u * t * t * x2 + t**3 * x3,
+                u**3 * y0 + 3 * u * u * t * y1 + 3 * u * t * t * y2 + t**3 * y3,
+            )
+
+
+def band_title_crossings(layout: dict) -> dict[int, dict[str, int]]:
+    """For each period band of a Graphviz JSON layout: how many points of drawn
+    lines fall in its title's box, with the title at the centre, left or right.
+
+    A left- or right-justified title sits one label-margin (8 points, Graphviz's
+    default cluster margin) inside the band's edge; the layout itself does not
+    depend on the justification (checked in tests/test_render.py).
+    """
+    boxes: dict[int, dict[str, tuple[float, float, float, float]]] = {}
+    for obj in layout.get("objects", []):
+        name = obj.get("name", "")
+        if not name.startswith("cluster_period_") or "lp" not in obj or "bb" not in obj:
+            continue
+        i = int(name.rsplit("_", 1)[1])
+        x, y = map(float, obj["lp"].split(","))
+        x0, _, x1, _ = map(float, obj["bb"].split(","))
+        half_w = float(obj.get("lwidth", 0)) * 72 / 2 + 3
+        half_h = float(obj.get("lheight", 0)) * 72 / 2 + 2
+        centres = {"c": x, "l": x0 + 8 + half_w, "r": x1 - 8 - half_w}
+        boxes[i] = {
+            k: (cx - half_w, cx + half_w, y - half_h, y + half_h) for k, cx in centres.items()
+        }
+    hits = {i: dict.fromkeys(places, 0) for i, places in boxes.items()}
+    for edge in layout.get("edges", []):
+        if "invis" in edge.get("style", ""):
+            continue
+        for op in edge.get("_draw_", []):
+            if op.get("op") not in ("b", "B"):
+                continue
+            for px, py in _bezier_points(op["points"]):
+                for i, places in boxes.items():
+                    for k, (bx0, bx1, by0, by1) in places.items():
+                        if bx0 <= px <= bx1 and by0 <= py <= by1:
+                            hits[i][k] += 1
+    return hits
+
+
+def place_band_titles(dot_text: str) -> dict[int, str]:
+    """Where each period's title goes so that no line crosses it, if it can.
+
+    Graphviz places cluster titles without looking at the lines, so one layout
+    is made first (`dot -Tjson`) and each title that a line crosses at the
+    centre moves to the left or right end of its band's top, where no line
+    passes (or the fewest do). {} when Graphviz cannot make the JSON layout.
+    """
+    import json
+
+    try:
+        layout = json.loads(_graphviz_bytes(dot_text, ["-Tjson"]))
+    except (UsageProblem, ValueError):
+        return {}
+    places = {}
+    for i, counts in band_title_crossings(layout).items():
+        if counts["c"]:
+            places[i] = min(("c", "l", "r"), key=lambda k: (counts[k], "clr".index(k)))
+    return places
+
+
+def dot_for_drawing(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
+    """The DOT text that Graphviz draws for .svg, .png, .pdf and .eps."""
+    dot_text = to_dot(pic, options)
+    if not pic.periods:
+        return dot_text
+    places = place_band_titles(dot_text)
+    return to_dot(pic, options, places) if places else dot_text
+
+
 def render(
     diagram: Diagram,
     analysis: Analysis | None,
@@ -574,10 +667,9 @@ def render(
     pic = picture(diagram, analysis)
     if fmt == "mmd":
         return to_mermaid(pic, options).encode("utf-8")
-    dot_text = to_dot(pic, options)
-    if fmt == "dot":
-        return dot_text.encode("utf-8")
-    return run_graphviz(dot_text, fmt, options.dpi)
+    if fmt == "dot":  # needs no Graphviz: the titles stay centred
+        return to_dot(pic, options).encode("utf-8")
+    return run_graphviz(dot_for_drawing(pic, options), fmt, options.dpi)
 
 
 def font_installed(family: str) -> bool | None:
