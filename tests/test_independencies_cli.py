@@ -340,3 +340,13 @@ def test_plot_is_never_svg_under_another_name(tmp_path, name):
     assert dagward("independencies", "samples/wellness.dag", "--data", EXTRA_ARROW,
                    "--plot", str(svg), "-q").code == 0  # fmt: skip
     assert svg.read_bytes().startswith(b"<svg")
+
+
+def test_names_a_terminal_cannot_show_never_crash(tmp_path):
+    dag = tmp_path / "u.dag"
+    dag.write_text("caf\u00e9 -> b\nb -> c\n", encoding="utf-8")
+    env = {"PYTHONIOENCODING": "ascii"}
+    text = dagward("independencies", str(dag), env=env)
+    assert text.code == 0 and "c and caf\\xe9" in text.out and "internal error" not in text.err
+    doc = dagward("independencies", str(dag), "--format", "json", env=env)
+    assert doc.code == 0 and json.loads(doc.out)["independencies"][0]["b"] == "caf\u00e9"

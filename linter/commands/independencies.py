@@ -217,6 +217,10 @@ def run(args: argparse.Namespace) -> int:
         text = _json(args, diagram, independencies, results, options, table, listing)
     else:
         text = _text(args, independencies, results, options, listing)
+        if not args.output and not _stdout_can_write(text):
+            # a terminal that cannot show a name: \x.. escapes, never a crash
+            encoding = getattr(sys.stdout, "encoding", None) or "ascii"
+            text = text.encode(encoding, "backslashreplace").decode(encoding)
     emit(args, text)
     if not args.quiet:
         _notes(args, independencies, results, findings, diagram, listing)
@@ -396,7 +400,18 @@ def _json(args, diagram, independencies, results, options, table, listing) -> st
         "truncated": listing.cut,
         "data": data,
     }
-    return json.dumps(out, indent=2, ensure_ascii=bool(args.ascii)) + "\n"
+    # \u escapes when asked, or when stdout cannot write the names as they are
+    ascii_only = args.ascii or (not args.output and not _stdout_can_write("\u00e9\u2212"))
+    return json.dumps(out, indent=2, ensure_ascii=ascii_only) + "\n"
+
+
+def _stdout_can_write(text: str) -> bool:
+    encoding = getattr(sys.stdout, "encoding", None) or "ascii"
+    try:
+        text.encode(encoding)
+    except (UnicodeEncodeError, LookupError):
+        return False
+    return True
 
 
 def _plot(args, diagram, results, options) -> None:
