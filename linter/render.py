@@ -672,19 +672,56 @@ def render(
     return run_graphviz(dot_for_drawing(pic, options), fmt, options.dpi)
 
 
-def font_installed(family: str) -> bool | None:
-    """Whether fontconfig knows the family (None when `fc-list` is not available)."""
-    program = shutil.which("fc-list")
+def _fc_match(family: str) -> tuple[str, str] | None:
+    """(the family fontconfig picks for `family`, its character set), or None
+    when fontconfig's `fc-match` is not available."""
+    program = shutil.which("fc-match")
     if program is None:
         return None
     try:
-        proc = subprocess.run([program, ":", "family"], capture_output=True, timeout=30)
+        proc = subprocess.run(
+            [program, "-f", "%{family}\\n%{charset}\\n", family], capture_output=True, timeout=30
+        )
     except (OSError, subprocess.TimeoutExpired):
         return None
-    names = set()
-    for line in proc.stdout.decode("utf-8", "replace").splitlines():
-        names.update(n.strip().casefold() for n in line.split(","))
+    lines = proc.stdout.decode("utf-8", "replace").splitlines()
+    if proc.returncode != 0 or len(lines) < 2:
+        return None
+    return lines[0], lines[1]
+
+
+def font_installed(family: str) -> bool | None:
+    """Whether fontconfig has the family itself, not a substitute (None: cannot tell)."""
+    found = _fc_match(family)
+    if found is None:
+        return None
+    names = {n.strip().casefold() for n in found[0].split(",")}
     return family.strip().casefold() in names
+
+
+def missing_glyphs(family: str, text: str) -> tuple[str, list[str]] | None:
+    """(the family fontconfig uses for `family`, the characters of `text` it has no
+    glyph for), read from fontconfig's character set; None when it cannot tell."""
+    found = _fc_match(family)
+    if found is None:
+        return None
+    ranges = []
+    for part in found[1].split():
+        low, _, high = part.partition("-")
+        try:
+            ranges.append((int(low, 16), int(high or low, 16)))
+        except ValueError:
+            return None
+    wanted = sorted({ch for ch in text if not ch.isspace()})
+    missing = [ch for ch in wanted if not any(lo <= ord(ch) <= hi for lo, hi in ranges)]
+    return found[0].split(",")[0], missing
+
+
+def diagram_text(diagram: Diagram) -> str:
+    """Every text of the user's that a picture may show: names, labels, period names
+    and the title (the key's own words are ASCII)."""
+    parts = [*diagram.variables, *diagram.labels.values(), *(h.text for h, _ in diagram.periods)]
+    return "\n".join([*parts, diagram.title or ""])
 
 
 def format_from_path(path: str, choices: Iterable[str] = FORMATS) -> str | None:

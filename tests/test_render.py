@@ -634,3 +634,28 @@ def test_lines_do_not_cross_band_titles():
     # with every title centred, lines cross several of them; placed, at most one is left
     # (all three places of a title can be crossed; the fewest-crossed one is taken)
     assert before >= 5 and after <= 1, (before, after)
+
+
+def test_a_font_without_a_glyph_the_picture_needs_is_named(tmp_path):
+    """fontconfig's own character set of the font decides (fc-match %{charset})."""
+    if shutil.which("fc-match") is None:
+        pytest.skip("fontconfig's fc-match is not installed")
+    import subprocess
+
+    charset = subprocess.run(["fc-match", "-f", "%{family}\n%{charset}", "DejaVu Sans"],
+                             capture_output=True, text=True).stdout.splitlines()  # fmt: skip
+    if not charset or "DejaVu Sans" not in charset[0]:
+        pytest.skip("DejaVu Sans is not installed")
+    assert "4e2d" not in charset[1]  # the premise: no CJK in DejaVu Sans
+    dag = tmp_path / "g.dag"
+    dag.write_text('label a "Dose \u4e2d"\na -> b\n', encoding="utf-8")
+    out = tmp_path / "g.svg"
+    run = dagward("render", str(dag), "-o", str(out), "--font", "DejaVu Sans")
+    assert run.code == 0
+    assert run.err == ("dagward: warning: font `DejaVu Sans` has no glyph for \u4e2d (U+4E2D); "
+                       "they may show as empty boxes: choose a family that has them with "
+                       "--font\n")  # fmt: skip
+    plain = tmp_path / "p.dag"
+    plain.write_text('label a "Dose, caf\u00e9"\na -> b\n', encoding="utf-8")
+    run = dagward("render", str(plain), "-o", str(out), "--font", "DejaVu Sans")
+    assert run.code == 0 and run.err == ""

@@ -67,12 +67,32 @@ def _options(args: argparse.Namespace, fmt: str):
                          dpi=args.dpi if args.dpi is not None else DEFAULT_DPI)  # fmt: skip
 
 
+def _warn_about_font(args, options, diagram) -> None:
+    """Say when the font is not installed, or lacks a glyph the picture needs
+    (Graphviz would draw an empty box); fontconfig answers both."""
+    from ..render import diagram_text, font_installed, missing_glyphs
+
+    if args.font is not None and font_installed(options.font) is False:
+        sys.stderr.write(
+            f"dagward: warning: font `{options.font}` is not installed here; Graphviz will "
+            "measure and draw the text with a substitute (see `fc-list : family`)\n"
+        )
+    found = missing_glyphs(options.font, diagram_text(diagram))
+    if found and found[1]:
+        used, missing = found
+        listed = ", ".join(f"{ch} (U+{ord(ch):04X})" for ch in missing[:8])
+        more = f" and {len(missing) - 8} more" if len(missing) > 8 else ""
+        sys.stderr.write(
+            f"dagward: warning: font `{used}` has no glyph for {listed}{more}; they may show "
+            "as empty boxes: choose a family that has them with --font\n"
+        )
+
+
 def run(args: argparse.Namespace) -> int:
     from ..render import (
         BINARY_FORMATS,
         GRAPHVIZ_FORMATS,
         choose_analysis,
-        font_installed,
         format_from_path,
         render,
     )
@@ -98,11 +118,8 @@ def run(args: argparse.Namespace) -> int:
     analysis, note = choose_analysis(result.diagram, args.analysis)
     if note and not args.quiet:
         sys.stderr.write(f"dagward: {note}\n")
-    if args.font is not None and fmt in GRAPHVIZ_FORMATS and font_installed(options.font) is False:
-        sys.stderr.write(
-            f"dagward: warning: font `{options.font}` is not installed here; Graphviz will "
-            "measure and draw the text with a substitute (see `fc-list : family`)\n"
-        )
+    if fmt in GRAPHVIZ_FORMATS:
+        _warn_about_font(args, options, result.diagram)
     data = render(result.diagram, analysis, fmt, options)
     if output:
         from ..fileio import write_atomic
