@@ -24,7 +24,8 @@ channels combine without ambiguity. A caption under the picture (a key node in
 Mermaid) repeats the key for the features present, in the words of this table;
 `RenderOptions.caption=False` leaves it out (a journal wants the key in the
 figure legend). Period bands have a solid outline so they are never taken for
-the dashed outline of an unmeasured variable.
+the dashed outline of an unmeasured variable; for drawn formats they are made
+equal columns whose titles stand above every line (`layout_for_drawing`).
 
 Open non-causal paths: for diagrams of up to `ENUMERATE_MAX_VARIABLES`
 variables the proper paths from exposure to outcome are listed (at most
@@ -42,7 +43,7 @@ from __future__ import annotations
 import shutil
 import subprocess
 import textwrap
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
 from .errors import UsageProblem
@@ -377,15 +378,10 @@ def caption(pic: Picture) -> list[str]:
     return [line for line in (caption_head(pic), "; ".join(roles), "; ".join(lines_key)) if line]
 
 
-def to_dot(
-    pic: Picture,
-    options: RenderOptions = RenderOptions(),
-    title_places: dict[int, str] | None = None,
-) -> str:
+def to_dot(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
     """Graphviz DOT text: periods are ranks from left to right (rankdir=LR).
 
-    `title_places` puts the title of period i (from 1) at the left (`l`) or right
-    (`r`) of its band's top instead of the centre (see `place_band_titles`).
+    For drawing, `layout_for_drawing` turns the bands into equal columns.
     """
     out = [f"digraph {_dot_id(pic.title or 'diagram')} {{"]
     font = _dot_id(options.font)
@@ -407,11 +403,9 @@ def to_dot(
         flat = not any(a in member_set and b in member_set for a, b in inner)
         ids = " ".join(f"{_dot_id(m)};" for m in members)
         same = " rank=same;" if flat else ""
-        just = (title_places or {}).get(i)
-        just = f" labeljust={just};" if just in ("l", "r") else ""
         out.append(
             f"  subgraph {_dot_id(f'cluster_period_{i}')} {{ label=<<B>{_html(period)}</B>>; "
-            f'labelloc=t;{just} style="rounded"; color="{BAND_COLOR}"; penwidth=0.8; margin=12; '
+            f'labelloc=t; style="rounded"; color="{BAND_COLOR}"; penwidth=0.8; margin=12; '
             f'class="period";{same} {ids} }}'
         )
     for i, ((_, before), (_, after)) in enumerate(
@@ -530,11 +524,13 @@ class GraphvizMissing(UsageProblem):
     """`dot` is not on PATH."""
 
 
-def run_graphviz(dot_text: str, fmt: str, dpi: int = DEFAULT_DPI) -> bytes:
+def run_graphviz(
+    dot_text: str, fmt: str, dpi: int = DEFAULT_DPI, layout_options: Sequence[str] = ()
+) -> bytes:
     """SVG, PNG, PDF or EPS bytes from DOT text via Graphviz's `dot` program."""
     if fmt not in GRAPHVIZ_FORMATS:
         raise ValueError(fmt)
-    options = [f"-T{fmt}"] + ([f"-Gdpi={dpi}"] if fmt == "png" else [])
+    options = [*layout_options, f"-T{fmt}"] + ([f"-Gdpi={dpi}"] if fmt == "png" else [])
     data = _graphviz_bytes(dot_text, options)
     _check_magic(data, fmt)
     return data
@@ -590,71 +586,107 @@ def _bezier_points(points: list[list[float]], steps: int = 24):
             )
 
 
-def band_title_crossings(layout: dict) -> dict[int, dict[str, int]]:
-    """For each period band of a Graphviz JSON layout: how many points of drawn
-    lines fall in its title's box, with the title at the centre, left or right.
-
-    A left- or right-justified title sits one label-margin (8 points, Graphviz's
-    default cluster margin) inside the band's edge; the layout itself does not
-    depend on the justification (checked in tests/test_render.py).
-    """
-    boxes: dict[int, dict[str, tuple[float, float, float, float]]] = {}
+def band_title_crossings(layout: dict) -> dict[int, int]:
+    """For each period band of a Graphviz JSON layout: how many sampled points of
+    drawn lines fall inside its title's box (tests use it; 0 is the aim)."""
+    boxes: dict[int, tuple[float, float, float, float]] = {}
     for obj in layout.get("objects", []):
         name = obj.get("name", "")
-        if not name.startswith("cluster_period_") or "lp" not in obj or "bb" not in obj:
+        if not name.startswith("cluster_period_") or "lp" not in obj:
             continue
-        i = int(name.rsplit("_", 1)[1])
         x, y = map(float, obj["lp"].split(","))
-        x0, _, x1, _ = map(float, obj["bb"].split(","))
-        half_w = float(obj.get("lwidth", 0)) * 72 / 2 + 3
-        half_h = float(obj.get("lheight", 0)) * 72 / 2 + 2
-        centres = {"c": x, "l": x0 + 8 + half_w, "r": x1 - 8 - half_w}
-        boxes[i] = {
-            k: (cx - half_w, cx + half_w, y - half_h, y + half_h) for k, cx in centres.items()
-        }
-    hits = {i: dict.fromkeys(places, 0) for i, places in boxes.items()}
-    for edge in layout.get("edges", []):
-        if "invis" in edge.get("style", ""):
-            continue
-        for op in edge.get("_draw_", []):
-            if op.get("op") not in ("b", "B"):
-                continue
-            for px, py in _bezier_points(op["points"]):
-                for i, places in boxes.items():
-                    for k, (bx0, bx1, by0, by1) in places.items():
-                        if bx0 <= px <= bx1 and by0 <= py <= by1:
-                            hits[i][k] += 1
+        half_w = float(obj.get("lwidth", 0)) * 72 / 2 + 2
+        half_h = float(obj.get("lheight", 0)) * 72 / 2 + 1
+        boxes[int(name.rsplit("_", 1)[1])] = (x - half_w, x + half_w, y - half_h, y + half_h)
+    hits = dict.fromkeys(boxes, 0)
+    for px, py in _line_points(layout):
+        for i, (bx0, bx1, by0, by1) in boxes.items():
+            if bx0 <= px <= bx1 and by0 <= py <= by1:
+                hits[i] += 1
     return hits
 
 
-def place_band_titles(dot_text: str) -> dict[int, str]:
-    """Where each period's title goes so that no line crosses it, if it can.
+def _line_points(layout: dict):
+    for edge in layout.get("edges", []):
+        if "invis" in edge.get("style", ""):
+            continue
+        for op in edge.get("_draw_", []) + edge.get("_hdraw_", []) + edge.get("_tdraw_", []):
+            if op.get("op") in ("b", "B"):
+                yield from _bezier_points(op["points"])
+            elif op.get("op") in ("p", "P", "L"):
+                yield from (tuple(p) for p in op["points"])
 
-    Graphviz places cluster titles without looking at the lines, so one layout
-    is made first (`dot -Tjson`) and each title that a line crosses at the
-    centre moves to the left or right end of its band's top, where no line
-    passes (or the fewest do). {} when Graphviz cannot make the JSON layout.
+
+BAND_TITLE_GAP = 6.0  # points between the highest line or shape and a band's title
+
+
+def align_bands(laid_out: str, layout: dict) -> str | None:
+    """Equal period bands, titles above every line: edits Graphviz's own layout.
+
+    `laid_out` is `dot -Tdot` output (positions included), `layout` the same as
+    JSON. Every band gets the same top and bottom (the extremes of all bands),
+    and the top is raised above the highest node, line or arrowhead of the
+    whole picture, so the titles sit on one line that nothing crosses. Nodes
+    and lines keep their places; `neato -n2` draws the result as it is.
+    None when the layout has no bands to align.
     """
+    import re
+
+    bands = [o for o in layout.get("objects", [])
+             if o.get("name", "").startswith("cluster_period_") and "bb" in o]  # fmt: skip
+    if not bands:
+        return None
+    tops = [float(o["bb"].split(",")[3]) for o in bands]
+    bottom = min(float(o["bb"].split(",")[1]) for o in bands)
+    for obj in layout.get("objects", []):
+        if "pos" in obj and "height" in obj and not obj.get("style") == "invis":
+            tops.append(float(obj["pos"].split(",")[1]) + float(obj["height"]) * 72 / 2)
+    tops += [y for _, y in _line_points(layout)]
+    title_h = max(float(o.get("lheight", 0)) * 72 for o in bands)
+    title_y = max(tops) + BAND_TITLE_GAP + title_h / 2
+    band_top = title_y + title_h / 2 + BAND_TITLE_GAP
+
+    def band(match: re.Match) -> str:
+        body = match.group(2)
+        x0, _, x1, _ = body.split('bb="', 1)[1].split('"', 1)[0].split(",")
+        body = re.sub(r'bb="[^"]*"', f'bb="{x0},{bottom:.2f},{x1},{band_top:.2f}"', body, count=1)
+        body = re.sub(r'lp="([^,"]*),[^"]*"', rf'lp="\1,{title_y:.2f}"', body, count=1)
+        return match.group(1) + body + match.group(3)
+
+    text, count = re.subn(
+        r"(subgraph cluster_period_\d+ \{\s*graph \[)(.*?)(\];)", band, laid_out, flags=re.S
+    )
+    if count != len(bands):
+        return None
+
+    def whole(match: re.Match) -> str:
+        x0, y0, x1, y1 = (float(v) for v in match.group(1).split(","))
+        return f'bb="{x0},{y0},{x1},{max(y1, band_top + 8):.2f}"'
+
+    return re.sub(r'bb="([^"]*)"', whole, text, count=1)
+
+
+def layout_for_drawing(
+    pic: Picture, options: RenderOptions = RenderOptions()
+) -> tuple[str, list[str]]:
+    """The DOT text that Graphviz draws for .svg, .png, .pdf and .eps, and the
+    layout options to draw it with (the bands come already laid out)."""
     import json
 
-    try:
-        layout = json.loads(_graphviz_bytes(dot_text, ["-Tjson"]))
-    except (UsageProblem, ValueError):
-        return {}
-    places = {}
-    for i, counts in band_title_crossings(layout).items():
-        if counts["c"]:
-            places[i] = min(("c", "l", "r"), key=lambda k: (counts[k], "clr".index(k)))
-    return places
-
-
-def dot_for_drawing(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
-    """The DOT text that Graphviz draws for .svg, .png, .pdf and .eps."""
     dot_text = to_dot(pic, options)
     if not pic.periods:
-        return dot_text
-    places = place_band_titles(dot_text)
-    return to_dot(pic, options, places) if places else dot_text
+        return dot_text, []
+    try:
+        laid_out = _graphviz_bytes(dot_text, ["-Tdot"]).decode("utf-8")
+        layout = json.loads(_graphviz_bytes(laid_out, [*PRESET_LAYOUT, "-Tjson"]))
+    except (UsageProblem, ValueError, UnicodeDecodeError):
+        return dot_text, []
+    aligned = align_bands(laid_out, layout)
+    return (aligned, list(PRESET_LAYOUT)) if aligned else (dot_text, [])
+
+
+# Draw the positions already in the DOT text (neato's -n2), laying out nothing.
+PRESET_LAYOUT = ("-Kneato", "-n2")
 
 
 def render(
@@ -669,7 +701,8 @@ def render(
         return to_mermaid(pic, options).encode("utf-8")
     if fmt == "dot":  # needs no Graphviz: the titles stay centred
         return to_dot(pic, options).encode("utf-8")
-    return run_graphviz(dot_for_drawing(pic, options), fmt, options.dpi)
+    dot_text, layout_options = layout_for_drawing(pic, options)
+    return run_graphviz(dot_text, fmt, options.dpi, layout_options)
 
 
 def _fc_match(family: str) -> tuple[str, str] | None:

@@ -423,10 +423,16 @@ def test_png_dpi_scales_the_raster_and_graphviz_succeeds(tmp_path):
         assert abs(sizes[300][axis] / sizes[72][axis] - 300 / 72) < 0.05
     assert sizes[72][0] > sizes[72][1] > 100  # a wide picture: periods run left to right
     # Graphviz itself accepts the DOT we write (exit status 0) and draws the same size
-    dot_text = render_text("samples/wellness.dag", "--format", "dot")
-    done = subprocess.run(["dot", "-Tpng", "-Gdpi=72"], input=dot_text.encode(),
+    from linter.render import choose_analysis, layout_for_drawing, picture
+
+    diagram = load_diagram(str(ROOT / "samples" / "wellness.dag"))
+    text, options = layout_for_drawing(picture(diagram, choose_analysis(diagram, None)[0]))
+    done = subprocess.run(["dot", *options, "-Tpng", "-Gdpi=72"], input=text.encode(),
                           capture_output=True)  # fmt: skip
     assert done.returncode == 0 and png_size(done.stdout) == sizes[72]
+    plain = subprocess.run(["dot", "-Tpng"], capture_output=True,
+                           input=render_text("samples/wellness.dag", "--format", "dot").encode())
+    assert plain.returncode == 0 and plain.stdout.startswith(MAGIC["png"])  # .dot output too
 
 
 def test_output_options_are_usage_errors_when_they_disagree(tmp_path):
@@ -566,11 +572,12 @@ def test_mermaid_keeps_titles_and_labels_with_markup_characters(tmp_path):
 # --- band titles: no line through them ------------------------------------------------------
 
 
-def _layout(dot_text: str) -> dict:
+def _layout(dot_text: str, *options: str) -> dict:
     import json
     import subprocess
 
-    done = subprocess.run(["dot", "-Tjson"], input=dot_text, capture_output=True, text=True)
+    done = subprocess.run(["dot", *options, "-Tjson"], input=dot_text, capture_output=True,
+                          text=True)  # fmt: skip
     assert done.returncode == 0, done.stderr
     return json.loads(done.stdout)
 
@@ -600,40 +607,51 @@ def _pictures():
         yield name, picture(diagram, choose_analysis(diagram, None)[0])
 
 
-def _crossed_titles(dot_text: str) -> int:
-    from linter.render import band_title_crossings
-
-    # "c" is the title where Graphviz really put it (lp), whatever its justification
-    return sum(bool(c["c"]) for c in band_title_crossings(_layout(dot_text)).values())
+def _bands(layout: dict) -> dict[str, tuple[float, ...]]:
+    return {o["name"]: tuple(map(float, o["bb"].split(","))) for o in layout["objects"]
+            if o.get("name", "").startswith("cluster_period_")}  # fmt: skip
 
 
-def test_moving_a_title_moves_nothing_else():
-    """The premise of place_band_titles: justification leaves the layout as it is."""
-    from linter.render import to_dot
+def test_bands_are_equal_columns_and_no_line_crosses_a_title():
+    """Read back from Graphviz's JSON of what is finally drawn."""
+    from linter.render import band_title_crossings, layout_for_drawing, to_dot
+
+    crossed_before = 0
+    for name, pic in _pictures():
+        crossed_before += sum(map(bool, band_title_crossings(_layout(to_dot(pic))).values()))
+        text, options = layout_for_drawing(pic)
+        assert options == ["-Kneato", "-n2"], name  # drawn as laid out, nothing moved
+        final = _layout(text, *options)
+        assert set(band_title_crossings(final).values()) == {0}, name
+        bands = _bands(final)
+        assert len(bands) == len(pic.periods)
+        assert len({(b[1], b[3]) for b in bands.values()}) == 1, name  # one top, one bottom
+        xs = sorted((b[0], b[2]) for b in bands.values())
+        assert all(a[1] < b[0] for a, b in zip(xs, xs[1:], strict=False)), name  # no overlap
+        # every variable of a period inside its band (positions from the same layout)
+        nodes = {o["name"]: tuple(map(float, o["pos"].split(","))) for o in final["objects"]
+                 if "pos" in o and "nodes" not in o}  # fmt: skip
+        for i, (_, members) in enumerate(pic.periods, start=1):
+            x0, y0, x1, y1 = bands[f"cluster_period_{i}"]
+            assert all(x0 <= nodes[m][0] <= x1 and y0 <= nodes[m][1] <= y1 for m in members)
+    # the premise: with Graphviz's own cluster titles, lines cross some of them
+    assert crossed_before >= 3
+
+
+def test_aligning_bands_moves_no_variable_and_no_line():
+    import subprocess
+
+    from linter.render import layout_for_drawing, to_dot
 
     for name, pic in list(_pictures())[:6]:
-        plain = _layout(to_dot(pic))
-        for just in ("l", "r"):
-            moved = _layout(to_dot(pic, title_places=dict.fromkeys(range(1, 5), just)))
-            assert [o.get("pos") for o in moved["objects"]] == [
-                o.get("pos") for o in plain["objects"]
-            ], name
-            assert [e.get("pos") for e in moved["edges"]] == [e.get("pos") for e in plain["edges"]]
-
-
-def test_lines_do_not_cross_band_titles():
-    from linter.render import dot_for_drawing, to_dot
-
-    before = after = 0
-    for name, pic in _pictures():
-        centred, drawn = _crossed_titles(to_dot(pic)), _crossed_titles(dot_for_drawing(pic))
-        assert drawn <= centred, name
-        if name in SAMPLES:
-            assert drawn == 0, name
-        before, after = before + centred, after + drawn
-    # with every title centred, lines cross several of them; placed, at most one is left
-    # (all three places of a title can be crossed; the fewest-crossed one is taken)
-    assert before >= 5 and after <= 1, (before, after)
+        laid = subprocess.run(["dot", "-Tdot"], input=to_dot(pic), capture_output=True,
+                              text=True).stdout  # fmt: skip
+        plain = _layout(laid, "-Kneato", "-n2")
+        aligned = _layout(*layout_for_drawing(pic)[:1], "-Kneato", "-n2")
+        assert [(o["name"], o.get("pos")) for o in aligned["objects"] if "nodes" not in o] == [
+            (o["name"], o.get("pos")) for o in plain["objects"] if "nodes" not in o
+        ], name
+        assert [e.get("pos") for e in aligned["edges"]] == [e.get("pos") for e in plain["edges"]]
 
 
 def test_a_font_without_a_glyph_the_picture_needs_is_named(tmp_path):
