@@ -39,6 +39,7 @@ JSON (`--format json`):
         {"a": "age", "b": "fitness_12m", "given": ["enrolled", "fitness_base"],
          "test": {...}}                               # "test" only with --data
       ],
+      "truncated": false,                             # true when --max stopped the search
       "data": null | {"file": "...", "rows": 2000, "method": "pearson",
                       "alpha": 0.05, "min_effect": 0.1, "rejected": 1}
     }
