@@ -23,7 +23,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     ),
     "paths": ("dagward.commands.paths", "every path between exposure and outcome, and its status"),
     "diff": ("dagward.commands.diff", "what a change to the diagrams means, between git revisions"),
-    "render": ("dagward.commands.render", "draw a diagram (.dot, .mmd, .svg, .png)"),
+    "render": ("dagward.commands.render", "draw a diagram (.dot, .mmd, .svg, .png, .pdf, .eps)"),
     "fmt": ("dagward.commands.fmt", "rewrite diagram files in the canonical layout"),
     "language-server": ("dagward.commands.language_server", "LSP server over stdio for editors"),
 }

@@ -1131,22 +1131,26 @@ def mermaid(diagram: Diagram, added: set[tuple[str, str, bool]]) -> str:
         lines.append(f'  {node}["{label}"]')
     seen: set[tuple[str, str, bool]] = set()
     highlighted: list[int] = []
+    new_hidden: list[int] = []
     for a in diagram.arrows:
         key = _key(a.source.text, a.target.text, a.bidirected)
         if key in seen or a.source.text == a.target.text:
             continue
         seen.add(key)
         new = key in added
-        if a.bidirected:
-            link = "<==>" if new else "<-.->"
-        else:
-            link = "==>" if new else "-->"
+        # A `<->` stays dotted with two heads (as the legend says), new or not.
+        link = "<-.->" if a.bidirected else "==>" if new else "-->"
         if new:
-            highlighted.append(len(seen) - 1)
+            (new_hidden if a.bidirected else highlighted).append(len(seen) - 1)
         lines.append(f"  {ids[a.source.text]} {link} {ids[a.target.text]}")
     if highlighted:
         lines.append(
             f"  linkStyle {','.join(map(str, highlighted))} stroke:#e8590c,stroke-width:4px"
+        )
+    if new_hidden:
+        lines.append(
+            f"  linkStyle {','.join(map(str, new_hidden))} "
+            "stroke:#e8590c,stroke-width:4px,stroke-dasharray:3 4"
         )
     unmeasured = [ids[n] for n in diagram.unmeasured if n in ids]
     if unmeasured:

@@ -1,11 +1,18 @@
 """A forest plot of independence tests as hand-written SVG.
 
-One row per test: its statement on the left, the effect (partial correlation,
-or the G-test's bias-corrected Cramér's V) with its 95% interval in the middle,
-and the figures on the right. Black and white only; rejection is shown by the
-marker's shape and fill (filled square = rejected, open circle = not
-rejected, open diamond = G-test effect without interval), so the plot survives
-printing and colour blindness. No plotting library is needed.
+One row per test: the claim on the left in words (`enrolled and shift_work,
+holding fixed fitness_base`), the effect (partial correlation, or the G-test's
+bias-corrected Cramér's V) with its 95% interval in the middle, and the figures
+on the right in columns (effect, interval, n, Holm p, verdict; numbers
+right-aligned so their digits line up). Black and white only; rejection is
+shown by the marker's shape and fill (filled square = rejected, open circle =
+not rejected, open diamond = G-test effect without interval), so the plot
+survives printing and colour blindness. No plotting library is needed.
+
+Every character the plot writes itself is ASCII or Latin-1 (`-` for minus,
+`...` for a cut label, `±`, `é`), which every font of `FONT_STACK` covers;
+tests/test_stats.py checks the installed ones with fontTools. Variable names
+are the user's and are written as they are.
 """
 
 from __future__ import annotations
@@ -26,12 +33,29 @@ MARGIN = 16
 HEADER = 56
 FOOTER = 52
 CHAR_WIDTH = 6.6  # average width of a 12px sans-serif character, for truncation
+# Fonts with every glyph the plot uses; the first one installed is used.
+FONT_STACK = "DejaVu Sans, Liberation Sans, Arial, Helvetica, sans-serif"
+# The right-hand columns: (heading, x offset from the column block, anchor).
+# Numbers are right-aligned at their offset ("end"), words start at it.
+COLUMNS = (
+    ("effect", 44, "end"),
+    ("95% interval", 150, "end"),
+    ("n", 196, "end"),
+    ("Holm p", 250, "end"),
+    ("verdict", 260, "start"),
+)
+
+
+def claim_text(a: str, b: str, given: Sequence[str]) -> str:
+    """A claim in words: `a and b`, or `a and b, holding fixed c, d`."""
+    text = f"{a} and {b}"
+    return text + (", holding fixed " + ", ".join(given) if given else "")
 
 
 def _fmt(value: float | None, digits: int = 2) -> str:
     if value is None or math.isnan(value):
         return "-"
-    return f"{value:.{digits}f}".replace("-", "\u2212")
+    return f"{value:.{digits}f}"
 
 
 def _fmt_p(p: float) -> str:
@@ -71,7 +95,7 @@ def _ticks(low: float, high: float) -> list[float]:
 
 def _truncate(text: str, width: float) -> str:
     limit = max(4, int(width / CHAR_WIDTH))
-    return text if len(text) <= limit else text[: limit - 1] + "\u2026"
+    return text if len(text) <= limit else text[: limit - 3] + "..."
 
 
 def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
@@ -82,9 +106,15 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
     the picture is searchable and testable. ``min_effect``, when given, draws
     dashed guide lines at plus and minus that effect size.
     """
-    width = MARGIN * 2 + LABEL_WIDTH + PLOT_WIDTH + TEXT_WIDTH
+    labels = [claim_text(r.independence.a, r.independence.b, r.independence.given)
+              for r in results]  # fmt: skip
+    # The label column grows with the longest claim (up to twice the default), so
+    # what is held fixed is seldom cut.
+    label_width = max(LABEL_WIDTH, min(2 * LABEL_WIDTH,
+                                       round(max(map(len, labels), default=0) * CHAR_WIDTH) + 16))
+    width = MARGIN * 2 + label_width + PLOT_WIDTH + TEXT_WIDTH
     height = HEADER + ROW_HEIGHT * max(len(results), 1) + FOOTER
-    plot_left = MARGIN + LABEL_WIDTH
+    plot_left = MARGIN + label_width
     low, high = _axis_range(results, min_effect)
 
     def xpos(value: float) -> float:
@@ -95,7 +125,7 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
     bottom = HEADER + ROW_HEIGHT * max(len(results), 1)
     out: list[str] = [
         f'<svg xmlns="http://www.w3.org/2000/svg" width="{width}" height="{height}" '
-        f'viewBox="0 0 {width} {height}" font-family="sans-serif" font-size="12">',
+        f'viewBox="0 0 {width} {height}" font-family="{FONT_STACK}" font-size="12">',
         f"<title>{escape(title or 'Tests of implied independencies')}</title>",
         f'<rect x="0" y="0" width="{width}" height="{height}" fill="white"/>',
     ]
@@ -103,11 +133,13 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
         out.append(f'<text x="{MARGIN}" y="20" font-size="15" font-weight="bold">'
                    f"{escape(title)}</text>")
     out.append(f'<text x="{MARGIN}" y="{HEADER - 8}" font-weight="bold">'
-               "implied independence</text>")
+               "implied independence (pair, what is held fixed)</text>")
     out.append(f'<text x="{plot_left + PLOT_WIDTH / 2}" y="{HEADER - 8}" font-weight="bold" '
                f'text-anchor="middle">effect (95% interval)</text>')
-    out.append(f'<text x="{plot_left + PLOT_WIDTH + 8}" y="{HEADER - 8}" font-weight="bold">'
-               "effect [interval]   n   p (Holm)</text>")
+    figures_left = plot_left + PLOT_WIDTH + 8
+    for heading, offset, anchor in COLUMNS:
+        out.append(f'<text x="{figures_left + offset}" y="{HEADER - 8}" font-weight="bold" '
+                   f'text-anchor="{anchor}">{heading}</text>')
 
     # Zebra stripes make long tables readable in grey scale.
     for index in range(len(results)):
@@ -126,11 +158,12 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
 
     for index, result in enumerate(results):
         y = top + index * ROW_HEIGHT + ROW_HEIGHT / 2
-        label = result.independence.label()
+        label = labels[index]
         out.append(f'<g class="test-row" data-label={quoteattr(label)}>')
         out.append(f'<text x="{MARGIN + 4}" y="{y + 4}">'
-                   f"{escape(_truncate(label, LABEL_WIDTH - 12))}</text>")
+                   f"{escape(_truncate(label, label_width - 12))}</text>")
         effect = result.effect
+        cells: list[str] = []
         if result.tested and effect is not None and not math.isnan(effect):
             if result.ci_low is not None and result.ci_high is not None:
                 out.append(f'<line x1="{xpos(result.ci_low)}" y1="{y}" x2="{xpos(result.ci_high)}"'
@@ -145,17 +178,18 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
                 out.append(f'<circle cx="{cx}" cy="{y}" r="4.5" fill="white" stroke="black" '
                            'stroke-width="1.5"/>')
             if result.ci_low is not None:
-                figures = (f"{_fmt(effect)} [{_fmt(result.ci_low)}, {_fmt(result.ci_high)}]"
-                           f"   {result.n}   {_fmt_p(result.p_adjusted)}")
+                cells = [_fmt(effect), f"[{_fmt(result.ci_low)}, {_fmt(result.ci_high)}]"]
             else:
-                figures = (f"V {_fmt(effect)} (G {_fmt(result.statistic, 1)}, df {result.df})"
-                           f"   {result.n}   {_fmt_p(result.p_adjusted)}")
-            if result.rejected:
-                figures += "   rejected"
+                cells = [f"V {_fmt(effect)}", f"G {_fmt(result.statistic, 1)}, df {result.df}"]
+            cells += [str(result.n), _fmt_p(result.p_adjusted),
+                      "rejected" if result.rejected else "not rejected"]  # fmt: skip
+            for text, (_, offset, anchor) in zip(cells, COLUMNS, strict=True):
+                out.append(f'<text class="figure" x="{figures_left + offset}" y="{y + 4}" '
+                           f'text-anchor="{anchor}">{escape(text)}</text>')
         else:
             figures = "not tested: " + (result.note or "no result")
-        out.append(f'<text x="{plot_left + PLOT_WIDTH + 8}" y="{y + 4}">'
-                   f"{escape(_truncate(figures, TEXT_WIDTH - 12))}</text>")
+            out.append(f'<text x="{figures_left}" y="{y + 4}">'
+                       f"{escape(_truncate(figures, TEXT_WIDTH - 12))}</text>")
         out.append("</g>")
 
     # Axis with ticks under the plot column.
@@ -178,7 +212,7 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
                'fill="white" stroke="black" stroke-width="1.5"/>')
     out.append(f'<text x="{MARGIN + 342}" y="{legend_y}">G-test effect (no interval)</text>')
     if min_effect:
-        out.append(f'<text x="{MARGIN + 540}" y="{legend_y}">dashed: \u00b1{_fmt(min_effect)}'
-                   "</text>")
+        out.append(f'<text x="{MARGIN + 540}" y="{legend_y}">dashed: \u00b1{_fmt(min_effect)} '
+                   "(smallest effect counted)</text>")
     out.append("</svg>")
     return "\n".join(out) + "\n"

@@ -1,4 +1,4 @@
-"""Pictures of a diagram: Graphviz DOT, Mermaid, and SVG/PNG through Graphviz's `dot`.
+"""Pictures of a diagram: Graphviz DOT, Mermaid, and SVG, PNG, PDF or EPS through `dot`.
 
 The visual scheme (ours; it works in black and white, on paper and for readers
 who do not tell colours apart -- only one shade of grey is used):
@@ -15,12 +15,17 @@ who do not tell colours apart -- only one shade of grey is used):
 | arrow on an open non-causal path (given `adjust:`) | dotted line |
 | arrow on both kinds of path | thick dotted line |
 | `a <-> b` (hidden common cause) | dashed line with a head at both ends; no node |
-| label | the `label` text, with the variable's name in small type beneath |
-| periods | columns from left to right in file order, headed by the period's name |
+| `a <-> b` on an open non-causal path | dotted line with a head at both ends |
+| label | the `label` text, wrapped, with the variable's name in small type beneath |
+| periods | columns left to right in file order, thin solid grey bands headed by name |
 
 Thickness says "causal", the dot pattern says "open non-causal", so the two
-channels combine without ambiguity. A caption under the picture repeats the key
-for the features present.
+channels combine without ambiguity. A caption under the picture (a key node in
+Mermaid) repeats the key for the features present, in the words of this table;
+`RenderOptions.caption=False` leaves it out (a journal wants the key in the
+figure legend). Period bands have a solid outline so they are never taken for
+the dashed outline of an unmeasured variable; for drawn formats they are made
+equal columns whose titles stand above every line (`layout_for_drawing`).
 
 Open non-causal paths: for diagrams of up to `ENUMERATE_MAX_VARIABLES`
 variables the proper paths from exposure to outcome are listed (at most
@@ -38,7 +43,7 @@ from __future__ import annotations
 import shutil
 import subprocess
 import textwrap
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
 from .errors import UsageProblem
@@ -48,16 +53,34 @@ PATH_LIMIT = 5000
 ENUMERATE_MAX_VARIABLES = 300
 WITNESS_ROUNDS = 50
 LABEL_WIDTH = 22  # characters per line of a label: keeps boxes narrow and legible
+# A hexagon grows in width about twice as fast as its text: the exposure's label
+# is wrapped narrower so a long label does not make the exposure dominate.
+EXPOSURE_LABEL_WIDTH = 18
 ADJUSTED_FILL = "#d4d4d4"
+BAND_COLOR = "#8c8c8c"  # period bands: thin, solid, mid grey (unmeasured is dashed black)
+DEFAULT_FONT = "Helvetica"
+DEFAULT_DPI = 144  # sharp enough for slides and reviews; journals often ask for 300-600
 
 INSTALL_GRAPHVIZ = (
-    "Graphviz's `dot` program is needed for .svg and .png but was not found on PATH; "
+    "Graphviz's `dot` program is needed for .svg, .png, .pdf and .eps but was not found on "
+    "PATH; "
     "install Graphviz (Debian/Ubuntu: sudo apt-get install graphviz; macOS: brew install "
     "graphviz; conda: conda install -c conda-forge graphviz; Windows: winget install "
     "graphviz), or write .dot or .mmd, which need nothing"
 )
 
-FORMATS = ("dot", "mmd", "svg", "png")
+FORMATS = ("dot", "mmd", "svg", "png", "pdf", "eps")
+GRAPHVIZ_FORMATS = ("svg", "png", "pdf", "eps")  # drawn by Graphviz's `dot`
+BINARY_FORMATS = ("png", "pdf", "eps")  # never printed to a terminal
+
+
+@dataclass(frozen=True)
+class RenderOptions:
+    """How a picture is drawn, beyond what the diagram says."""
+
+    caption: bool = True  # the title and key under the picture
+    font: str = DEFAULT_FONT  # a font family name that fontconfig (or the viewer) resolves
+    dpi: int = DEFAULT_DPI  # PNG only
 
 
 @dataclass(frozen=True)
@@ -267,18 +290,21 @@ def _html(text: str) -> str:
     )
 
 
-def _wrap(text: str) -> list[str]:
-    return textwrap.wrap(text, LABEL_WIDTH, break_long_words=False) or [text]
+def _wrap(text: str, width: int = LABEL_WIDTH) -> list[str]:
+    # A single word longer than the width is cut too (break_long_words): an
+    # unbroken 60-character label must not stretch its shape across the page.
+    return textwrap.wrap(text, width, break_long_words=True, break_on_hyphens=True) or [text]
 
 
 def _dot_node(node: NodeStyle) -> str:
     attrs: list[str] = []
+    width = EXPOSURE_LABEL_WIDTH if node.exposure else LABEL_WIDTH
     if node.label:
-        lines = "<BR/>".join(_html(line) for line in _wrap(node.label))
+        lines = "<BR/>".join(_html(line) for line in _wrap(node.label, width))
         attrs.append(f'label=<{lines}<BR/><FONT POINT-SIZE="9">{_html(node.name)}</FONT>>')
     style = []
     if node.exposure:
-        attrs += ["shape=hexagon", "penwidth=2.5"]
+        attrs += ["shape=hexagon", "penwidth=2.5", 'margin="0.02,0.04"']
     elif node.outcome:
         attrs += ["shape=box", "peripheries=2", "penwidth=1.4"]
     else:
@@ -310,11 +336,20 @@ def _dot_edge(edge: EdgeStyle) -> str:
     return f"  {_dot_id(edge.source)} -> {_dot_id(edge.target)} [{', '.join(attrs)}];"
 
 
-def caption(pic: Picture) -> list[str]:
-    """The title line and the key to the features the picture shows."""
+def caption_head(pic: Picture) -> str:
+    """The title line: the diagram's title and the analysis drawn."""
     head = pic.title or ""
     if pic.analysis:
         head = f"{head} (analysis {pic.analysis})" if head else f"analysis {pic.analysis}"
+    return head
+
+
+def key_items(pic: Picture) -> tuple[list[str], list[str]]:
+    """The key to what the picture shows: (shapes and fills, lines), in drawing order.
+
+    Each entry names the style exactly as `_dot_node`, `_dot_edge` and
+    `to_mermaid` draw it (tests/test_render.py checks the two against each other).
+    """
     roles = []
     if any(n.exposure for n in pic.nodes):
         roles.append("hexagon: exposure")
@@ -330,21 +365,36 @@ def caption(pic: Picture) -> list[str]:
     if any(e.open_noncausal for e in pic.edges):
         cut = "" if pic.paths_complete else " (some shown)"
         lines_key.append(f"dotted: open non-causal path{cut}")
-    if any(e.bidirected for e in pic.edges):
+    if any(e.bidirected and not e.open_noncausal for e in pic.edges):
         lines_key.append("dashed, two heads: hidden common cause")
-    return [line for line in (head, "; ".join(roles), "; ".join(lines_key)) if line]
+    if any(e.bidirected and e.open_noncausal for e in pic.edges):
+        lines_key.append("dotted, two heads: hidden common cause on an open non-causal path")
+    return roles, lines_key
 
 
-def to_dot(pic: Picture) -> str:
-    """Graphviz DOT text: periods are ranks from left to right (rankdir=LR)."""
+def caption(pic: Picture) -> list[str]:
+    """The title line and the key to the features the picture shows."""
+    roles, lines_key = key_items(pic)
+    return [line for line in (caption_head(pic), "; ".join(roles), "; ".join(lines_key)) if line]
+
+
+def to_dot(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
+    """Graphviz DOT text: periods are ranks from left to right (rankdir=LR).
+
+    For drawing, `layout_for_drawing` turns the bands into equal columns.
+    """
     out = [f"digraph {_dot_id(pic.title or 'diagram')} {{"]
-    cap = "\\n".join(line.replace("\\", "\\\\").replace('"', '\\"') for line in caption(pic))
+    font = _dot_id(options.font)
+    label = ""
+    if options.caption:
+        cap = "\\n".join(line.replace("\\", "\\\\").replace('"', '\\"') for line in caption(pic))
+        label = f', labelloc=b, label="{cap}"'
     out.append(
-        f'  graph [rankdir=LR, newrank=true, nodesep=0.3, ranksep=0.7, fontname="Helvetica", '
-        f'fontsize=11, labelloc=b, label="{cap}"];'
+        f"  graph [rankdir=LR, newrank=true, nodesep=0.3, ranksep=0.7, fontname={font}, "
+        f"fontsize=11{label}];"
     )
-    out.append('  node [shape=box, fontname="Helvetica", fontsize=11, margin="0.12,0.06"];')
-    out.append("  edge [arrowsize=0.8];")
+    out.append(f'  node [shape=box, fontname={font}, fontsize=11, margin="0.12,0.06"];')
+    out.append(f"  edge [arrowsize=0.8, fontname={font}];")
     inner = {(e.source, e.target) for e in pic.edges if not e.bidirected}
     for i, (period, members) in enumerate(pic.periods, start=1):
         # A period is a labelled band; its variables share one rank unless an
@@ -355,7 +405,8 @@ def to_dot(pic: Picture) -> str:
         same = " rank=same;" if flat else ""
         out.append(
             f"  subgraph {_dot_id(f'cluster_period_{i}')} {{ label=<<B>{_html(period)}</B>>; "
-            f'labelloc=t; style="dashed,rounded"; color="#9a9a9a"; class="period";{same} {ids} }}'
+            f'labelloc=t; style="rounded"; color="{BAND_COLOR}"; penwidth=0.8; margin=12; '
+            f'class="period";{same} {ids} }}'
         )
     for i, ((_, before), (_, after)) in enumerate(
         zip(pic.periods, pic.periods[1:], strict=False), start=1
@@ -381,23 +432,35 @@ def to_dot(pic: Picture) -> str:
 
 
 def _mmd_text(text: str) -> str:
-    return text.replace('"', "#quot;").replace("<", "#lt;").replace(">", "#gt;")
+    """Text inside a quoted Mermaid label: the characters that Mermaid or HTML would
+    read as markup become Mermaid's numeric entity codes (`#60;` is `<`)."""
+    codes = {"&": "#38;", '"': "#34;", "<": "#60;", ">": "#62;", "#": "#35;"}
+    return "".join(codes.get(ch, ch) for ch in text)
 
 
-def to_mermaid(pic: Picture) -> str:
-    """A Mermaid flowchart (left to right); periods become labelled subgraphs."""
+def _yaml_string(text: str) -> str:
+    """A YAML double-quoted scalar holding `text` exactly (for the front-matter title)."""
+    escaped = text.replace("\\", "\\\\").replace('"', '\\"')
+    return '"' + "".join(ch if ch >= " " else f"\\x{ord(ch):02x}" for ch in escaped) + '"'
+
+
+def to_mermaid(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
+    """A Mermaid flowchart (left to right); periods become labelled subgraphs.
+
+    The key is a node of its own (`key`), so it shows in the rendered chart.
+    """
     ids = {node.name: f"v{i}" for i, node in enumerate(pic.nodes)}
     out: list[str] = []
     if pic.title:
-        out += ["---", f'title: "{pic.title.replace(chr(34), chr(39))}"', "---"]
+        out += ["---", f"title: {_yaml_string(pic.title)}", "---"]
     out.append("flowchart LR")
-    for line in caption(pic)[1:]:
-        out.append(f"  %% key: {line}")
 
     def node_line(node: NodeStyle) -> str:
-        text = _mmd_text(node.name)
+        text = text_name = _mmd_text(node.name)
         if node.label:
-            text = "<br/>".join(_mmd_text(x) for x in _wrap(node.label)) + f"<br/>({text})"
+            width = EXPOSURE_LABEL_WIDTH if node.exposure else LABEL_WIDTH
+            text = "<br/>".join(_mmd_text(x) for x in _wrap(node.label, width))
+            text += f"<br/>({text_name})"
         if node.exposure:
             shape = '{{"%s"}}'
         elif node.outcome:
@@ -434,7 +497,15 @@ def to_mermaid(pic: Picture) -> str:
             styles.append(f"  linkStyle {index} stroke-width:4px")
         else:
             out.append(f"  {a} --> {b}")
+    key_lines = [item for part in key_items(pic) for item in part] if options.caption else []
+    if key_lines:
+        # An unlinked node drawn like a note: the key, visible in the chart.
+        text = "<br/>".join(_mmd_text(line) for line in ["Key", *key_lines])
+        out.append(f'  key["{text}"]')
     out += styles
+    if key_lines:
+        out.append("  classDef key fill:#ffffff,stroke:#8c8c8c,text-align:left")
+        out.append("  class key key")
     out.append("  classDef exposure stroke-width:3px")
     out.append("  classDef outcome stroke-width:3px")
     out.append("  classDef unmeasured stroke-dasharray:6 4")
@@ -453,19 +524,25 @@ class GraphvizMissing(UsageProblem):
     """`dot` is not on PATH."""
 
 
-def run_graphviz(dot_text: str, fmt: str) -> bytes:
-    """SVG or PNG bytes from DOT text via Graphviz's `dot` program."""
-    if fmt not in ("svg", "png"):
+def run_graphviz(
+    dot_text: str, fmt: str, dpi: int = DEFAULT_DPI, layout_options: Sequence[str] = ()
+) -> bytes:
+    """SVG, PNG, PDF or EPS bytes from DOT text via Graphviz's `dot` program."""
+    if fmt not in GRAPHVIZ_FORMATS:
         raise ValueError(fmt)
+    options = [*layout_options, f"-T{fmt}"] + ([f"-Gdpi={dpi}"] if fmt == "png" else [])
+    data = _graphviz_bytes(dot_text, options)
+    _check_magic(data, fmt)
+    return data
+
+
+def _graphviz_bytes(dot_text: str, options: list[str]) -> bytes:
     program = shutil.which("dot")
     if program is None:
         raise GraphvizMissing(INSTALL_GRAPHVIZ)
-    command = [program, f"-T{fmt}"]
-    if fmt == "png":
-        command.append("-Gdpi=144")  # sharp enough for slides and reviews
     try:
         proc = subprocess.run(
-            command, input=dot_text.encode("utf-8"), capture_output=True, timeout=300
+            [program, *options], input=dot_text.encode("utf-8"), capture_output=True, timeout=300
         )
     except OSError as e:
         raise UsageProblem(f"cannot run Graphviz `dot` ({program}): {e.strerror or e}") from None
@@ -478,15 +555,206 @@ def run_graphviz(dot_text: str, fmt: str) -> bytes:
     return proc.stdout
 
 
-def render(diagram: Diagram, analysis: Analysis | None, fmt: str) -> bytes:
+# The first bytes of each binary format: a file is only written when it is what
+# its name says (a Graphviz built without a renderer may print something else).
+MAGIC = {"png": b"\x89PNG\r\n\x1a\n", "pdf": b"%PDF-", "eps": b"%!PS-Adobe-"}
+
+
+def _check_magic(data: bytes, fmt: str) -> None:
+    magic = MAGIC.get(fmt)
+    if fmt == "svg":
+        ok = b"<svg" in data[:4096]
+    else:
+        ok = magic is not None and data.startswith(magic)
+    if not ok:
+        raise UsageProblem(
+            f"Graphviz `dot` did not produce {fmt.upper()} (this Graphviz may lack the "
+            f"renderer for -T{fmt}); try .svg, .dot or .mmd"
+        )
+
+
+def _bezier_points(points: list[list[float]], steps: int = 24):
+    """Points along the cubic Bezier pieces of a Graphviz spline (common practice)."""
+    for i in range(0, len(points) - 3, 3):
+        (x0, y0), (x1, y1), (x2, y2), (x3, y3) = points[i : i + 4]
+        for k in range(steps + 1):
+            t = k / steps
+            u = 1 - t
+            yield (
+                u**3 * x0 + 3 * u * u * t * x1 + 3 * u * t * t * x2 + t**3 * x3,
+                u**3 * y0 + 3 * u * u * t * y1 + 3 * u * t * t * y2 + t**3 * y3,
+            )
+
+
+def band_title_crossings(layout: dict) -> dict[int, int]:
+    """For each period band of a Graphviz JSON layout: how many sampled points of
+    drawn lines fall inside its title's box (tests use it; 0 is the aim)."""
+    boxes: dict[int, tuple[float, float, float, float]] = {}
+    for obj in layout.get("objects", []):
+        name = obj.get("name", "")
+        if not name.startswith("cluster_period_") or "lp" not in obj:
+            continue
+        x, y = map(float, obj["lp"].split(","))
+        half_w = float(obj.get("lwidth", 0)) * 72 / 2 + 2
+        half_h = float(obj.get("lheight", 0)) * 72 / 2 + 1
+        boxes[int(name.rsplit("_", 1)[1])] = (x - half_w, x + half_w, y - half_h, y + half_h)
+    hits = dict.fromkeys(boxes, 0)
+    for px, py in _line_points(layout):
+        for i, (bx0, bx1, by0, by1) in boxes.items():
+            if bx0 <= px <= bx1 and by0 <= py <= by1:
+                hits[i] += 1
+    return hits
+
+
+def _line_points(layout: dict):
+    for edge in layout.get("edges", []):
+        if "invis" in edge.get("style", ""):
+            continue
+        for op in edge.get("_draw_", []) + edge.get("_hdraw_", []) + edge.get("_tdraw_", []):
+            if op.get("op") in ("b", "B"):
+                yield from _bezier_points(op["points"])
+            elif op.get("op") in ("p", "P", "L"):
+                yield from (tuple(p) for p in op["points"])
+
+
+BAND_TITLE_GAP = 6.0  # points between the highest line or shape and a band's title
+
+
+def align_bands(laid_out: str, layout: dict) -> str | None:
+    """Equal period bands, titles above every line: edits Graphviz's own layout.
+
+    `laid_out` is `dot -Tdot` output (positions included), `layout` the same as
+    JSON. Every band gets the same top and bottom (the extremes of all bands),
+    and the top is raised above the highest node, line or arrowhead of the
+    whole picture, so the titles sit on one line that nothing crosses. Nodes
+    and lines keep their places; `neato -n2` draws the result as it is.
+    None when the layout has no bands to align.
+    """
+    import re
+
+    bands = [o for o in layout.get("objects", [])
+             if o.get("name", "").startswith("cluster_period_") and "bb" in o]  # fmt: skip
+    if not bands:
+        return None
+    tops = [float(o["bb"].split(",")[3]) for o in bands]
+    bottom = min(float(o["bb"].split(",")[1]) for o in bands)
+    for obj in layout.get("objects", []):
+        if "pos" in obj and "height" in obj and not obj.get("style") == "invis":
+            tops.append(float(obj["pos"].split(",")[1]) + float(obj["height"]) * 72 / 2)
+    tops += [y for _, y in _line_points(layout)]
+    title_h = max(float(o.get("lheight", 0)) * 72 for o in bands)
+    title_y = max(tops) + BAND_TITLE_GAP + title_h / 2
+    band_top = title_y + title_h / 2 + BAND_TITLE_GAP
+
+    def band(match: re.Match) -> str:
+        body = match.group(2)
+        x0, _, x1, _ = body.split('bb="', 1)[1].split('"', 1)[0].split(",")
+        body = re.sub(r'bb="[^"]*"', f'bb="{x0},{bottom:.2f},{x1},{band_top:.2f}"', body, count=1)
+        body = re.sub(r'lp="([^,"]*),[^"]*"', rf'lp="\1,{title_y:.2f}"', body, count=1)
+        return match.group(1) + body + match.group(3)
+
+    text, count = re.subn(
+        r"(subgraph cluster_period_\d+ \{\s*graph \[)(.*?)(\];)", band, laid_out, flags=re.S
+    )
+    if count != len(bands):
+        return None
+
+    def whole(match: re.Match) -> str:
+        x0, y0, x1, y1 = (float(v) for v in match.group(1).split(","))
+        return f'bb="{x0},{y0},{x1},{max(y1, band_top + 8):.2f}"'
+
+    return re.sub(r'bb="([^"]*)"', whole, text, count=1)
+
+
+def layout_for_drawing(
+    pic: Picture, options: RenderOptions = RenderOptions()
+) -> tuple[str, list[str]]:
+    """The DOT text that Graphviz draws for .svg, .png, .pdf and .eps, and the
+    layout options to draw it with (the bands come already laid out)."""
+    import json
+
+    dot_text = to_dot(pic, options)
+    if not pic.periods:
+        return dot_text, []
+    try:
+        laid_out = _graphviz_bytes(dot_text, ["-Tdot"]).decode("utf-8")
+        layout = json.loads(_graphviz_bytes(laid_out, [*PRESET_LAYOUT, "-Tjson"]))
+    except (UsageProblem, ValueError, UnicodeDecodeError):
+        return dot_text, []
+    aligned = align_bands(laid_out, layout)
+    return (aligned, list(PRESET_LAYOUT)) if aligned else (dot_text, [])
+
+
+# Draw the positions already in the DOT text (neato's -n2), laying out nothing.
+PRESET_LAYOUT = ("-Kneato", "-n2")
+
+
+def render(
+    diagram: Diagram,
+    analysis: Analysis | None,
+    fmt: str,
+    options: RenderOptions = RenderOptions(),
+) -> bytes:
     """The picture in one of FORMATS, as bytes ready to write."""
     pic = picture(diagram, analysis)
     if fmt == "mmd":
-        return to_mermaid(pic).encode("utf-8")
-    dot_text = to_dot(pic)
-    if fmt == "dot":
-        return dot_text.encode("utf-8")
-    return run_graphviz(dot_text, fmt)
+        return to_mermaid(pic, options).encode("utf-8")
+    if fmt == "dot":  # needs no Graphviz: the titles stay centred
+        return to_dot(pic, options).encode("utf-8")
+    dot_text, layout_options = layout_for_drawing(pic, options)
+    return run_graphviz(dot_text, fmt, options.dpi, layout_options)
+
+
+def _fc_match(family: str) -> tuple[str, str] | None:
+    """(the family fontconfig picks for `family`, its character set), or None
+    when fontconfig's `fc-match` is not available."""
+    program = shutil.which("fc-match")
+    if program is None:
+        return None
+    try:
+        proc = subprocess.run(
+            [program, "-f", "%{family}\\n%{charset}\\n", family], capture_output=True, timeout=30
+        )
+    except (OSError, subprocess.TimeoutExpired):
+        return None
+    lines = proc.stdout.decode("utf-8", "replace").splitlines()
+    if proc.returncode != 0 or len(lines) < 2:
+        return None
+    return lines[0], lines[1]
+
+
+def font_installed(family: str) -> bool | None:
+    """Whether fontconfig has the family itself, not a substitute (None: cannot tell)."""
+    found = _fc_match(family)
+    if found is None:
+        return None
+    names = {n.strip().casefold() for n in found[0].split(",")}
+    return family.strip().casefold() in names
+
+
+def missing_glyphs(family: str, text: str) -> tuple[str, list[str]] | None:
+    """(the family fontconfig uses for `family`, the characters of `text` it has no
+    glyph for), read from fontconfig's character set; None when it cannot tell."""
+    found = _fc_match(family)
+    if found is None:
+        return None
+    ranges = []
+    for part in found[1].split():
+        low, _, high = part.partition("-")
+        try:
+            ranges.append((int(low, 16), int(high or low, 16)))
+        except ValueError:
+            return None
+    wanted = sorted({ch for ch in text if not ch.isspace()})
+    missing = [ch for ch in wanted if not any(lo <= ord(ch) <= hi for lo, hi in ranges)]
+    return found[0].split(",")[0], missing
+
+
+def diagram_text(diagram: Diagram) -> str:
+    """Every text of the user's that a picture may show: names, labels, period names
+    and the title (the key's own words are ASCII)."""
+    parts = [*diagram.variables, *diagram.labels.values(), *(h.text for h, _ in diagram.periods)]
+    return "\n".join([*parts, diagram.title or ""])
 
 
 def format_from_path(path: str, choices: Iterable[str] = FORMATS) -> str | None:

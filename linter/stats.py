@@ -124,11 +124,10 @@ class Independence:
         return (self.a, self.b, *self.given)
 
     def label(self) -> str:
-        """``a ⫫ b | c, d`` (Dawid's conditional-independence sign)."""
-        text = f"{self.a} \u2aeb {self.b}"
-        if self.given:
-            text += " | " + ", ".join(self.given)
-        return text
+        """The claim in words: ``a and b, holding fixed c, d`` (as the table and plot say)."""
+        from .forest import claim_text
+
+        return claim_text(self.a, self.b, self.given)
 
     def __str__(self) -> str:
         return self.label()

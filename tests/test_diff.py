@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import subprocess
 from itertools import combinations
 from pathlib import Path
@@ -448,3 +449,17 @@ def test_paths_limit_the_comparison_from_a_subdirectory(history, capsys, monkeyp
     assert [(f["status"], f["old_path"], f["new_path"]) for f in doc["files"]] == [
         ("renamed", "heat.dag", "models/heat.dag")
     ]
+
+
+def test_markdown_draws_a_new_hidden_cause_dotted_as_its_legend_says(tmp_path, capsys):
+    old, new = tmp_path / "old.dag", tmp_path / "new.dag"
+    old.write_text("a -> b\nc -> b\n", "utf-8")
+    new.write_text("a -> b\nc -> b\na <-> c\n", "utf-8")
+    assert main(["diff", "--format", "markdown", str(old), str(new)]) == 0
+    md = capsys.readouterr().out
+    mermaid = md.split("```mermaid\n", 1)[1].split("```", 1)[0].splitlines()
+    links = [line for line in mermaid if re.search(r" (-->|==>|<-\.->|<==>) ", line)]
+    assert not any("<==>" in line for line in links)  # not a thick solid line
+    (hidden,) = [i for i, line in enumerate(links) if "<-.->" in line]
+    assert f"  linkStyle {hidden} stroke:#e8590c,stroke-width:4px,stroke-dasharray:3 4" in mermaid
+    assert "dotted links with two heads are shared hidden causes" in md

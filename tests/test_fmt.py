@@ -348,8 +348,10 @@ def test_check_reports_and_exits_1(tmp_path, monkeypatch, capsys):
     (tmp_path / "tidy.dag").write_text(CANONICAL, "utf-8")
     assert main(["fmt", "--check", "messy.dag", "tidy.dag"]) == 1
     captured = capsys.readouterr()
-    assert captured.out == "messy.dag: would reformat\n"
-    assert captured.err == "1 file would be reformatted, 1 unchanged\n"
+    assert captured.out == "messy.dag: layout differs from the canonical one\n"
+    assert captured.err == "2 diagram files: 1 not in the canonical layout, 1 already in it\n"
+    # our own wording, not a well-known code formatter's
+    assert "reformat" not in captured.out + captured.err
     assert (tmp_path / "messy.dag").read_text("utf-8") == MESSY  # untouched
     assert main(["fmt", "--check", "tidy.dag"]) == 0
     assert capsys.readouterr().out == ""
@@ -361,7 +363,7 @@ def test_diff_prints_unified_diff(tmp_path, monkeypatch, capsys):
     assert main(["fmt", "--diff", "m.dag"]) == 0  # --diff alone only shows
     out = capsys.readouterr().out
     assert out == (
-        "--- m.dag (before)\n+++ m.dag (formatted)\n@@ -1,5 +1,3 @@\n"
+        "--- m.dag (as written)\n+++ m.dag (canonical layout)\n@@ -1,5 +1,3 @@\n"
         "-a->b\n+a -> b\n \n-\n-\n-b ->c # why\n+b -> c  # why\n"
     )
     assert (tmp_path / "m.dag").read_text("utf-8") == "a->b\n\n\n\nb ->c # why\n"
@@ -377,7 +379,12 @@ def test_rewrite_is_atomic_and_leaves_no_temporary_files(tmp_path, monkeypatch, 
     (tmp_path / "sub").mkdir()
     (tmp_path / "sub" / "heat.dag").write_text("canopy->heat\n", "utf-8")
     assert main(["fmt"]) == 0  # the current directory, recursively
-    assert capsys.readouterr().out == "soil.dag: reformatted\nsub/heat.dag: reformatted\n"
+    captured = capsys.readouterr()
+    assert captured.out == (
+        "soil.dag: rewritten in the canonical layout\n"
+        "sub/heat.dag: rewritten in the canonical layout\n"
+    )
+    assert captured.err == "2 diagram files: 2 rewritten in the canonical layout, 0 already in it\n"
     assert target.read_text("utf-8") == CANONICAL
     assert (tmp_path / "sub" / "heat.dag").read_text("utf-8") == "canopy -> heat\n"
     assert _files(tmp_path) == ["soil.dag", "sub"] and _files(tmp_path / "sub") == ["heat.dag"]
@@ -397,6 +404,10 @@ def test_syntax_error_file_is_not_modified(tmp_path, monkeypatch, capsys):
     assert err.splitlines()[0] == (
         "bad.dag:1:10: error [syntax-error] expected a variable name after `->`, "
         "found the end of the line (file left unchanged)"
+    )
+    assert err.splitlines()[-1] == (
+        "2 diagram files: 1 rewritten in the canonical layout, 0 already in it, "
+        "1 not read (syntax error, left as it was)"
     )
     assert bad.read_bytes() == b"age ->   \nage->sick_days\n"
     assert bad.stat().st_mtime_ns == before.st_mtime_ns

@@ -27,8 +27,7 @@ from dagward.syntax import parse_source
 SAMPLES = ["wellness", "tree_canopy", "soil_amendment"]
 CONSISTENT = "samples/data/wellness_consistent.csv"
 EXTRA_ARROW = "samples/data/wellness_extra_arrow.csv"
-LINE = re.compile(r"^(\S+) \u2aeb (\S+)(?: \| (.+))?$")
-ASCII_LINE = re.compile(r"^(\S+) indep (\S+)(?: given (.+))?$")
+PAIR = re.compile(r"^(\S+) and (\S+)$")
 
 
 def load(name: str):
@@ -38,12 +37,27 @@ def load(name: str):
     return diagram
 
 
-def parse_lines(text: str, pattern=LINE) -> list[tuple[str, str, tuple[str, ...]]]:
+def table_rows(text: str, first: int = 0) -> list[list[str]]:
+    """The cells of the `first`-th table in the text (cells are two or more spaces apart)."""
+    lines = text.splitlines()
+    rules = [i for i, line in enumerate(lines) if line and set(line) <= {"-", " "}]
+    start = rules[first] + 1
+    rows = []
+    for line in lines[start:]:
+        if not line.strip():
+            break
+        rows.append(re.split(r"\s{2,}", line.strip()))
+    return rows
+
+
+def parse_lines(text: str) -> list[tuple[str, str, tuple[str, ...]]]:
+    """(a, b, held fixed) from the text table, in printed order."""
     out = []
-    for line in text.splitlines():
-        m = pattern.match(line)
-        assert m, line
-        out.append((m.group(1), m.group(2), tuple(m.group(3).split(", ")) if m.group(3) else ()))
+    for cells in table_rows(text):
+        m = PAIR.match(cells[0])
+        assert m, cells
+        given = () if cells[1] == "nothing" else tuple(cells[1].split(", "))
+        out.append((m.group(1), m.group(2), given))
     return out
 
 
@@ -82,39 +96,60 @@ def test_wellness_list_by_hand():
     """Read off samples/wellness.dag by hand (motivation unmeasured)."""
     run = dagward("independencies", "samples/wellness.dag")
     assert run.out.splitlines() == [
-        "age \u2aeb fitness_base",
-        "age \u2aeb shift_work",
-        "enrolled \u2aeb shift_work | fitness_base",
-        "enrolled \u2aeb sick_days | age, fitness_12m, fitness_base",
-        "fitness_12m \u2aeb shift_work | fitness_base",
-        "fitness_base \u2aeb sick_days | age, fitness_12m, shift_work",
+        "Independencies implied by samples/wellness.dag (6), fewest variables held fixed first:",
+        "",
+        "pair                        holding fixed",
+        "--------------------------  ------------------------------",
+        "age and fitness_base        nothing",
+        "age and shift_work          nothing",
+        "enrolled and shift_work     fitness_base",
+        "fitness_12m and shift_work  fitness_base",
+        "enrolled and sick_days      age, fitness_12m, fitness_base",
+        "fitness_base and sick_days  age, fitness_12m, shift_work",
+        "",
+        "A claim that holds more variables fixed is a weaker test: each of them must be measured",
+        "and modelled well.",
     ]
     # age and fitness_12m: the only separating sets contain enrolled, a collider
     # of age -> enrolled <- motivation -> fitness_12m, so no measured set works.
-    assert "age \u2aeb fitness_12m" not in run.out
+    assert "age and fitness_12m" not in run.out
 
 
-def test_ascii_flag_and_fallback():
-    unicode_run = dagward("independencies", "samples/wellness.dag")
+@pytest.mark.parametrize("name", SAMPLES)
+def test_reading_order_and_plain_words(name):
+    """Fewest variables held fixed first; no symbol and no `a | c` notation."""
+    run = dagward("independencies", f"samples/{name}.dag")
+    listed = parse_lines(run.out)
+    assert [len(g) for _, _, g in listed] == sorted(len(g) for _, _, g in listed)
+    for size in {len(g) for _, _, g in listed}:
+        same = [(a, b) for a, b, g in listed if len(g) == size]
+        assert same == sorted(same)
+    assert "\u2aeb" not in run.out and " | " not in run.out and " indep " not in run.out
+    run.out.encode("ascii")  # plain ASCII: any terminal prints it
+
+
+def test_ascii_flag_and_narrow_terminal_print_the_same_table():
+    plain = dagward("independencies", "samples/wellness.dag")
     flag = dagward("independencies", "samples/wellness.dag", "--ascii")
     forced = dagward("independencies", "samples/wellness.dag", env={"PYTHONIOENCODING": "ascii"})
-    assert flag.code == forced.code == 0
-    assert flag.out == forced.out
-    assert parse_lines(flag.out, ASCII_LINE) == parse_lines(unicode_run.out)
-    assert "enrolled indep shift_work given fitness_base" in flag.out.splitlines()
-    assert "\u2aeb" not in flag.out
+    assert plain.code == flag.code == forced.code == 0
+    assert plain.out == flag.out == forced.out
 
 
 def test_json_shape_without_data():
     run = dagward("independencies", "samples/wellness.dag", "--format", "json")
     assert run.code == 0
     doc = json.loads(run.out)
-    assert set(doc) == {"tool", "schema", "file", "measured", "independencies", "data"}
+    assert set(doc) == {"tool", "schema", "file", "measured", "independencies", "truncated",
+                        "data"}  # fmt: skip
     assert doc["tool"]["name"] == "dagward" and doc["schema"] == 1
     assert doc["file"] == "samples/wellness.dag" and doc["data"] is None
+    assert doc["truncated"] is False
     assert doc["measured"] == sorted(load("wellness").measured)
     text = dagward("independencies", "samples/wellness.dag").out
-    assert [(i["a"], i["b"], tuple(i["given"])) for i in doc["independencies"]] == parse_lines(text)
+    listed = [(i["a"], i["b"], tuple(i["given"])) for i in doc["independencies"]]
+    assert listed == sorted(listed)  # JSON keeps name order
+    assert sorted(listed) == sorted(parse_lines(text))
     assert all(set(i) == {"a", "b", "given"} for i in doc["independencies"])
 
 
@@ -175,12 +210,18 @@ def test_text_table_and_forest_plot(tmp_path):
                   "--plot", str(plot))  # fmt: skip
     assert run.code == 0  # independence-rejected is a warning; --fail-on error
     lines = run.out.splitlines()
-    assert lines[0].split() == ["independence", "n", "statistic", "p", "Holm", "p",
-                                "effect", "[95%", "interval]", "verdict"]  # fmt: skip
-    row = next(x for x in lines if x.startswith("enrolled \u2aeb shift_work | fitness_base"))
-    assert row.split()[-1] == "rejected" and " 2000 " in row and "<0.001" in row
-    assert re.search(r"0\.\d\d \[0\.\d\d, 0\.\d\d\]", row)
-    assert sum(x.endswith("rejected") for x in lines) == 1
+    header = next(i for i, x in enumerate(lines) if x.startswith("pair "))
+    assert re.split(r"\s{2,}", lines[header]) == ["pair", "holding fixed", "n", "statistic",
+                                                 "p", "Holm p", "effect [95% interval]",
+                                                 "verdict"]  # fmt: skip
+    rows = {tuple(cells[:2]): cells for cells in table_rows(run.out)}
+    row = rows[("enrolled and shift_work", "fitness_base")]
+    assert row[2:6] == ["2000", "z=12.21", "<0.001", "<0.001"] and row[-1] == "rejected"
+    assert re.fullmatch(r"0\.\d\d \[0\.\d\d, 0\.\d\d\]", row[6])
+    assert sum(cells[-1] == "rejected" for cells in rows.values()) == 1
+    # figures are right-aligned: every row's n column ends in the header's column
+    n_end = lines[header].index(" n ") + 2
+    assert all(lines[header + 2 + k][n_end - 4 : n_end] == "2000" for k in range(6))
     assert "1 of 6 implied independencies rejected" in run.err
     root = ET.parse(plot).getroot()
     rows = [g for g in root.iter("{http://www.w3.org/2000/svg}g") if g.get("class") == "test-row"]
@@ -199,8 +240,13 @@ def test_missing_column_and_bad_data(tmp_path):
     run = dagward("independencies", "samples/wellness.dag", "--data", str(lacking))
     assert run.code == 1  # missing-column is an error
     assert "samples/wellness.dag:12:18: error [missing-column] `age`" in run.err
-    age_rows = [x for x in run.out.splitlines() if x.startswith("age ")]
-    assert age_rows and all("not tested (not in the data: `age`)" in x for x in age_rows)
+    assert "Not tested (4):" in run.out  # in a table of their own, after the tested ones
+    untested = table_rows(run.out, 1)
+    assert [c[0] for c in untested] == ["age and fitness_base", "age and shift_work",
+                                        "enrolled and sick_days", "fitness_base and sick_days"]
+    assert all(c[-1] == "not in the data: `age`" for c in untested)
+    assert [c[0] for c in table_rows(run.out, 0)] == ["enrolled and shift_work",
+                                                      "fitness_12m and shift_work"]  # fmt: skip
     for bad in (str(tmp_path / "none.csv"), str(tmp_path)):
         run = dagward("independencies", "samples/wellness.dag", "--data", bad)
         assert run.code == 2 and len(run.err.strip().splitlines()) == 1
@@ -213,3 +259,93 @@ def test_missing_column_and_bad_data(tmp_path):
 def test_broken_diagram_prints_its_errors_and_exits_1():
     run = dagward("independencies", "samples/broken/cycle.dag")
     assert run.code == 1 and "samples/broken/cycle.dag:4:1: error [cycle]" in run.err
+
+
+# --- --max and progress (large diagrams) ---------------------------------------------------
+
+
+def test_max_stops_the_search_and_says_so():
+    full = parse_lines(dagward("independencies", "samples/wellness.dag").out)
+    run = dagward("independencies", "samples/wellness.dag", "--max", "3")
+    assert run.code == 0
+    cut = parse_lines(run.out)
+    # the first three found, pairs being examined in name order
+    assert sorted(cut) == sorted(full)[:3]
+    assert "(cut at --max 3: 8 of 15 pairs" in " ".join(run.out.split())
+    assert "dagward: stopped at --max 3: 8 of 15 pairs examined" in run.err
+    doc = json.loads(dagward("independencies", "samples/wellness.dag", "--max", "3",
+                             "--format", "json").out)  # fmt: skip
+    assert doc["truncated"] is True and len(doc["independencies"]) == 3
+    roomy = dagward("independencies", "samples/wellness.dag", "--max", "50")
+    assert parse_lines(roomy.out) == full and "cut" not in roomy.out and "--max" not in roomy.err
+    bad = dagward("independencies", "samples/wellness.dag", "--max", "0")
+    assert bad.code == 2 and bad.err == "dagward: error: --max must be at least 1\n"
+
+
+def test_search_agrees_with_the_shared_listing():
+    """The command's own search (with progress and --max) finds exactly `dagward.data.implied`."""
+    from dagward.commands.independencies import find_independencies
+    from dagward.data import implied
+
+    for name in SAMPLES:
+        diagram = load(name)
+        calls: list[tuple[int, int, int]] = []
+        listing = find_independencies(diagram, None, lambda *a, calls=calls: calls.append(a))
+        assert listing.independencies == implied(diagram) and not listing.cut
+        n = len(diagram.measured)
+        assert calls[-1] == (n * (n - 1) // 2, n * (n - 1) // 2, len(listing.independencies))
+
+
+def test_progress_only_on_a_terminal():
+    import os
+    import pty
+    import subprocess
+    import sys
+
+    piped = dagward("independencies", "samples/tree_canopy.dag")
+    assert "looking for" not in piped.err and "\r" not in piped.err
+    master, slave = pty.openpty()
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    proc = subprocess.run([sys.executable, "-m", "dagward", "independencies",
+                           "samples/tree_canopy.dag"], cwd=ROOT, env=env,
+                          stdout=subprocess.PIPE, stderr=slave, timeout=120)  # fmt: skip
+    os.close(slave)
+    seen = b""
+    while True:
+        try:
+            chunk = os.read(master, 4096)
+        except OSError:
+            break
+        if not chunk:
+            break
+        seen += chunk
+    os.close(master)
+    assert proc.returncode == 0
+    text = seen.decode()
+    assert "looking for implied independencies:" in text and "pairs examined" in text
+    assert text.endswith("\r\x1b[K")  # the line is cleared when done
+    assert proc.stdout.decode() == piped.out  # stdout is the same either way
+
+
+@pytest.mark.parametrize("name", ["forest.png", "forest.pdf", "forest"])
+def test_plot_is_never_svg_under_another_name(tmp_path, name):
+    out = tmp_path / name
+    run = dagward("independencies", "samples/wellness.dag", "--data", EXTRA_ARROW,
+                  "--plot", str(out))  # fmt: skip
+    assert run.code == 2 and len(run.err.splitlines()) == 1
+    assert "drawn as SVG only, so name it OUT.svg" in run.err and run.out == ""
+    assert list(tmp_path.iterdir()) == []
+    svg = tmp_path / "forest.SVG"  # the extension in any case
+    assert dagward("independencies", "samples/wellness.dag", "--data", EXTRA_ARROW,
+                   "--plot", str(svg), "-q").code == 0  # fmt: skip
+    assert svg.read_bytes().startswith(b"<svg")
+
+
+def test_names_a_terminal_cannot_show_never_crash(tmp_path):
+    dag = tmp_path / "u.dag"
+    dag.write_text("caf\u00e9 -> b\nb -> c\n", encoding="utf-8")
+    env = {"PYTHONIOENCODING": "ascii"}
+    text = dagward("independencies", str(dag), env=env)
+    assert text.code == 0 and "c and caf\\xe9" in text.out and "internal error" not in text.err
+    doc = dagward("independencies", str(dag), "--format", "json", env=env)
+    assert doc.code == 0 and json.loads(doc.out)["independencies"][0]["b"] == "caf\u00e9"

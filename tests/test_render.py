@@ -215,7 +215,7 @@ def test_bidirected_is_a_dashed_two_headed_edge(bidirected):
     assert a_y["dir"] == c_y["dir"] == "both"
     assert styles(a_y) == {"dotted"} and styles(c_y) == {"dashed"}
     assert "dotted" in styles(edges[("a", "x")][0]) and "dotted" not in styles(edges[("c", "x")][0])
-    assert nodes["x"]["label"].startswith("<Shade trees planted")
+    assert nodes["x"]["label"].startswith("<Shade trees<BR/>planted")
 
 
 @pytest.mark.parametrize("name", SAMPLES)
@@ -375,9 +375,304 @@ def test_missing_graphviz_says_how_to_install(tmp_path, suffix):
 def test_usage_problems(tmp_path):
     assert dagward("render", "samples/wellness.dag").code == 2
     run = dagward("render", "samples/wellness.dag", "-o", str(tmp_path / "x.jpg"))
-    assert run.code == 2 and ".svg, .png, .dot or .mmd" in run.err
+    assert run.code == 2 and ".svg, .png, .pdf, .eps, .dot or .mmd" in run.err
     # a diagram with errors: the errors are printed and the exit status is 1
     run = dagward("render", "samples/broken/cycle.dag", "-o", str(tmp_path / "x.dot"))
     assert run.code == 1 and "samples/broken/cycle.dag:4:1: error [cycle]" in run.err
     assert not (tmp_path / "x.dot").exists()
     assert dagward("render", str(tmp_path / "missing.dag"), "-o", str(tmp_path / "x.dot")).code == 2
+
+
+# --- formats for papers: PDF, EPS, PNG resolution, no caption, font -------------------
+
+MAGIC = {"pdf": b"%PDF-", "eps": b"%!PS-Adobe-", "png": b"\x89PNG\r\n\x1a\n"}
+
+
+def png_size(data: bytes) -> tuple[int, int]:
+    """Width and height from the IHDR chunk (PNG specification, section 11.2.2)."""
+    assert data[:8] == MAGIC["png"] and data[12:16] == b"IHDR"
+    return int.from_bytes(data[16:20], "big"), int.from_bytes(data[20:24], "big")
+
+
+@pytest.mark.parametrize("suffix", ["pdf", "eps", "png", "svg"])
+def test_every_picture_is_what_its_name_says(suffix, tmp_path):
+    out = tmp_path / f"figure.{suffix}"
+    run = dagward("render", "samples/wellness.dag", "-o", str(out), "-q")
+    assert run.code == 0, run.err
+    data = out.read_bytes()
+    if suffix == "svg":
+        assert ET.fromstring(data).tag == "{http://www.w3.org/2000/svg}svg"
+    else:
+        assert data.startswith(MAGIC[suffix])
+    if suffix == "eps":
+        assert b"EPSF" in data.splitlines()[0]  # encapsulated, for journals that ask for it
+
+
+def test_png_dpi_scales_the_raster_and_graphviz_succeeds(tmp_path):
+    import subprocess
+
+    sizes = {}
+    for dpi in (72, 300):
+        out = tmp_path / f"at{dpi}.png"
+        run = dagward("render", "samples/wellness.dag", "-o", str(out), "--dpi", str(dpi), "-q")
+        assert run.code == 0, run.err
+        sizes[dpi] = png_size(out.read_bytes())
+    # the same drawing at 300/72 of the resolution (Graphviz rounds to whole pixels)
+    for axis in (0, 1):
+        assert abs(sizes[300][axis] / sizes[72][axis] - 300 / 72) < 0.05
+    assert sizes[72][0] > sizes[72][1] > 100  # a wide picture: periods run left to right
+    # Graphviz itself accepts the DOT we write (exit status 0) and draws the same size
+    from dagward.render import choose_analysis, layout_for_drawing, picture
+
+    diagram = load_diagram(str(ROOT / "samples" / "wellness.dag"))
+    text, options = layout_for_drawing(picture(diagram, choose_analysis(diagram, None)[0]))
+    done = subprocess.run(["dot", *options, "-Tpng", "-Gdpi=72"], input=text.encode(),
+                          capture_output=True)  # fmt: skip
+    assert done.returncode == 0 and png_size(done.stdout) == sizes[72]
+    plain = subprocess.run(["dot", "-Tpng"], capture_output=True,
+                           input=render_text("samples/wellness.dag", "--format", "dot").encode())
+    assert plain.returncode == 0 and plain.stdout.startswith(MAGIC["png"])  # .dot output too
+
+
+def test_output_options_are_usage_errors_when_they_disagree(tmp_path):
+    x, y = tmp_path / "x.png", tmp_path / "y.png"
+    run = dagward("render", "samples/wellness.dag", "-o", str(x), "--output", str(y))
+    assert run.code == 2 and len(run.err.splitlines()) == 1 and "once" in run.err
+    run = dagward("render", "samples/wellness.dag", "--format", "svg", "-o", str(x))
+    assert run.code == 2 and "does not match" in run.err
+    run = dagward("render", "samples/wellness.dag", "-o", str(tmp_path / "x.svg"), "--dpi", "300")
+    assert run.code == 2 and "--dpi applies to .png" in run.err
+    run = dagward("render", "samples/wellness.dag", "--format", "pdf")
+    assert run.code == 2 and "needs -o OUT.pdf" in run.err
+    assert list(tmp_path.iterdir()) == []  # nothing written
+    # --output alone works like -o
+    assert dagward("render", "samples/wellness.dag", "--output", str(y), "-q").code == 0
+    assert y.read_bytes().startswith(MAGIC["png"])
+
+
+def test_no_caption_and_font(bidirected):
+    with_caption = render_text(str(bidirected), "--format", "dot")
+    assert "hidden common cause" in with_caption
+    bare = render_text(str(bidirected), "--format", "dot", "--no-caption")
+    assert "label=\"" not in bare.splitlines()[1] and "hidden common cause" not in bare
+    mmd = render_text(str(bidirected), "--format", "mmd", "--no-caption")
+    assert "key[" not in mmd and "hidden common cause" not in mmd
+    fonted = render_text(str(bidirected), "--format", "dot", "--font", "DejaVu Sans")
+    assert fonted.count('fontname="DejaVu Sans"') == 3  # graph, node and edge defaults
+    assert "Helvetica" not in fonted
+
+
+def test_a_font_that_is_not_installed_is_named(tmp_path):
+    if shutil.which("fc-list") is None:
+        pytest.skip("fontconfig's fc-list is not installed")
+    out = tmp_path / "x.svg"
+    run = dagward("render", "samples/wellness.dag", "-o", str(out), "-q",
+                  "--font", "No Such Family 123")  # fmt: skip
+    assert run.code == 0 and "font `No Such Family 123` is not installed" in run.err
+    run = dagward("render", "samples/wellness.dag", "-o", str(out), "-q", "--font", "DejaVu Sans")
+    assert run.code == 0 and run.err == ""
+
+
+def _drawn_line_styles(dot_text: str) -> set[str]:
+    """The key entries that the drawn edges call for, read from the DOT (not the caption)."""
+    _, edges, _ = read_dot(dot_text)
+    wanted = set()
+    for attrs_list in edges.values():
+        for a in attrs_list:
+            if "invis" in styles(a):
+                continue
+            two_heads = a.get("dir") == "both"
+            if two_heads:
+                wanted.add("dotted, two heads" if "dotted" in styles(a) else "dashed, two heads")
+            elif "dotted" in styles(a):
+                wanted.add("dotted")
+            if float(a.get("penwidth", "1")) >= 3:
+                wanted.add("thick")
+    return wanted
+
+
+@pytest.mark.parametrize("name", [*SAMPLES, "shade"])
+def test_caption_key_names_exactly_the_line_styles_drawn(name, bidirected):
+    file = bidirected if name == "shade" else ROOT / "samples" / f"{name}.dag"
+    dot_text = render_text(str(file), "--format", "dot")
+    cap = re.search(r'label="(.*)"\];', dot_text.splitlines()[1]).group(1).split("\\n")
+    keyed = {item.split(":")[0] for line in cap[1:] for item in line.split("; ")}
+    line_words = {k for k in keyed if k.startswith(("thick", "dotted", "dashed,"))}
+    assert line_words == _drawn_line_styles(dot_text)
+    if name == "shade":  # one open and one blocked <->: both entries, as drawn
+        assert {"dotted, two heads", "dashed, two heads"} <= line_words
+
+
+def test_period_bands_are_solid_not_dashed():
+    _, _, clusters = read_dot(render_text("samples/wellness.dag", "--format", "dot"))
+    assert len(clusters) == 3
+    for _, _, line in clusters.values():
+        style = re.search(r'style="([^"]*)"', line).group(1)
+        assert "dashed" not in style and "dotted" not in style  # dashed = unmeasured
+
+
+def test_long_exposure_label_stays_narrow(tmp_path):
+    import subprocess
+
+    long_label = "Participation in the employer-sponsored wellness programme during the study"
+    dag = tmp_path / "long.dag"
+    dag.write_text(f'label x "{long_label}"\nlabel z "{long_label}"\nx -> y\nz -> y\n'
+                   "analysis {\n  exposure: x\n  outcome: y\n}\n")  # fmt: skip
+    dot_text = render_text(str(dag), "--format", "dot")
+    nodes, _, _ = read_dot(dot_text)
+    lines = re.sub(r"<FONT.*", "", nodes["x"]["label"][1:]).split("<BR/>")
+    assert all(len(line) <= 18 for line in lines if line)
+    plain = subprocess.run(["dot", "-Tplain"], input=dot_text, capture_output=True, text=True)
+    widths = {shlex.split(x)[1]: float(shlex.split(x)[4]) for x in plain.stdout.splitlines()
+              if x.startswith("node ")}  # fmt: skip
+    # the exposure's hexagon (x) against the same label in an ordinary box (z), as laid
+    # out by Graphviz: 1.63 times as wide when the label was wrapped like the others
+    assert widths["x"] < 1.45 * widths["z"]
+    assert widths["z"] < 2.2  # inches; the label on one line would be over 5
+
+
+# --- Mermaid: the key in the chart, titles kept -------------------------------------------
+
+
+def _mermaid_unescape(text: str) -> str:
+    return re.sub(r"#(\d+);", lambda m: chr(int(m.group(1))), text)
+
+
+def test_mermaid_key_is_a_node_and_matches_the_dot_caption(bidirected):
+    mmd = render_text(str(bidirected), "--format", "mmd")
+    key = re.search(r'^  key\["(.*)"\]$', mmd, re.M)
+    assert key, mmd
+    items = key.group(1).split("<br/>")
+    assert items[0] == "Key"
+    dot_text = render_text(str(bidirected), "--format", "dot")
+    cap = re.search(r'label="(.*)"\];', dot_text.splitlines()[1]).group(1).split("\\n")
+    assert items[1:] == [item for line in cap[1:] for item in line.split("; ")]
+    assert "%%" not in mmd  # the key is drawn, not hidden in comments
+
+
+def test_mermaid_keeps_titles_and_labels_with_markup_characters(tmp_path):
+    title = 'Dose < 5 mg & "high" > 2'
+    dag = tmp_path / "t.dag"
+    dag.write_text(f'title "{title.replace(chr(34), chr(92) + chr(34))}"\n'
+                   'label a "A & B <b>"\na -> b\n')  # fmt: skip
+    mmd = render_text(str(dag), "--format", "mmd")
+    lines = mmd.splitlines()
+    assert lines[0] == "---" and lines[2] == "---"
+    import json
+
+    assert lines[1].startswith("title: ")
+    # a YAML double-quoted scalar with only \\ and \" escapes reads like a JSON string
+    assert json.loads(lines[1][len("title: "):]) == title
+    label = re.search(r'v0\("(.*)"\)', mmd).group(1)
+    assert not set(label.replace("<br/>", "")) & set('<>&"')  # all as entity codes
+    assert _mermaid_unescape(label.replace("<br/>", "\n")) == "A & B <b>\n(a)"
+
+
+# --- band titles: no line through them ------------------------------------------------------
+
+
+def _layout(dot_text: str, *options: str) -> dict:
+    import json
+    import subprocess
+
+    done = subprocess.run(["dot", *options, "-Tjson"], input=dot_text, capture_output=True,
+                          text=True)  # fmt: skip
+    assert done.returncode == 0, done.stderr
+    return json.loads(done.stdout)
+
+
+def _pictures():
+    """The samples and generated diagrams with four periods (seeded; invented)."""
+    import random
+
+    from dagward.render import choose_analysis, picture
+
+    sources = {name: (ROOT / "samples" / f"{name}.dag").read_text() for name in SAMPLES}
+    for seed in range(12):
+        r = random.Random(seed)
+        n = r.randint(6, 12)
+        names = [f"v{i}" for i in range(n)]
+        cuts = sorted(r.sample(range(1, n), 3))
+        bounds = [0, *cuts, n]
+        lines = [f"period p{j}: " + ", ".join(names[bounds[j]:bounds[j + 1]]) for j in range(4)]
+        lines += [f"{names[i]} -> {names[j]}" for i in range(n) for j in range(i + 1, n)
+                  if r.random() < 0.25]  # fmt: skip
+        lines += [f"{names[0]} -> {names[-1]}", "analysis {", f"  exposure: {names[cuts[0]]}",
+                  f"  outcome: {names[-1]}", "}"]  # fmt: skip
+        sources[f"generated {seed}"] = "\n".join(lines) + "\n"
+    for name, text in sources.items():
+        diagram, problem = parse_source(text.encode(), f"{name}.dag")
+        assert problem is None, (name, problem)
+        yield name, picture(diagram, choose_analysis(diagram, None)[0])
+
+
+def _bands(layout: dict) -> dict[str, tuple[float, ...]]:
+    return {o["name"]: tuple(map(float, o["bb"].split(","))) for o in layout["objects"]
+            if o.get("name", "").startswith("cluster_period_")}  # fmt: skip
+
+
+def test_bands_are_equal_columns_and_no_line_crosses_a_title():
+    """Read back from Graphviz's JSON of what is finally drawn."""
+    from dagward.render import band_title_crossings, layout_for_drawing, to_dot
+
+    crossed_before = 0
+    for name, pic in _pictures():
+        crossed_before += sum(map(bool, band_title_crossings(_layout(to_dot(pic))).values()))
+        text, options = layout_for_drawing(pic)
+        assert options == ["-Kneato", "-n2"], name  # drawn as laid out, nothing moved
+        final = _layout(text, *options)
+        assert set(band_title_crossings(final).values()) == {0}, name
+        bands = _bands(final)
+        assert len(bands) == len(pic.periods)
+        assert len({(b[1], b[3]) for b in bands.values()}) == 1, name  # one top, one bottom
+        xs = sorted((b[0], b[2]) for b in bands.values())
+        assert all(a[1] < b[0] for a, b in zip(xs, xs[1:], strict=False)), name  # no overlap
+        # every variable of a period inside its band (positions from the same layout)
+        nodes = {o["name"]: tuple(map(float, o["pos"].split(","))) for o in final["objects"]
+                 if "pos" in o and "nodes" not in o}  # fmt: skip
+        for i, (_, members) in enumerate(pic.periods, start=1):
+            x0, y0, x1, y1 = bands[f"cluster_period_{i}"]
+            assert all(x0 <= nodes[m][0] <= x1 and y0 <= nodes[m][1] <= y1 for m in members)
+    # the premise: with Graphviz's own cluster titles, lines cross some of them
+    assert crossed_before >= 3
+
+
+def test_aligning_bands_moves_no_variable_and_no_line():
+    import subprocess
+
+    from dagward.render import layout_for_drawing, to_dot
+
+    for name, pic in list(_pictures())[:6]:
+        laid = subprocess.run(["dot", "-Tdot"], input=to_dot(pic), capture_output=True,
+                              text=True).stdout  # fmt: skip
+        plain = _layout(laid, "-Kneato", "-n2")
+        aligned = _layout(*layout_for_drawing(pic)[:1], "-Kneato", "-n2")
+        assert [(o["name"], o.get("pos")) for o in aligned["objects"] if "nodes" not in o] == [
+            (o["name"], o.get("pos")) for o in plain["objects"] if "nodes" not in o
+        ], name
+        assert [e.get("pos") for e in aligned["edges"]] == [e.get("pos") for e in plain["edges"]]
+
+
+def test_a_font_without_a_glyph_the_picture_needs_is_named(tmp_path):
+    """fontconfig's own character set of the font decides (fc-match %{charset})."""
+    if shutil.which("fc-match") is None:
+        pytest.skip("fontconfig's fc-match is not installed")
+    import subprocess
+
+    charset = subprocess.run(["fc-match", "-f", "%{family}\n%{charset}", "DejaVu Sans"],
+                             capture_output=True, text=True).stdout.splitlines()  # fmt: skip
+    if not charset or "DejaVu Sans" not in charset[0]:
+        pytest.skip("DejaVu Sans is not installed")
+    assert "4e2d" not in charset[1]  # the premise: no CJK in DejaVu Sans
+    dag = tmp_path / "g.dag"
+    dag.write_text('label a "Dose \u4e2d"\na -> b\n', encoding="utf-8")
+    out = tmp_path / "g.svg"
+    run = dagward("render", str(dag), "-o", str(out), "--font", "DejaVu Sans")
+    assert run.code == 0
+    assert run.err == ("dagward: warning: font `DejaVu Sans` has no glyph for \u4e2d (U+4E2D); "
+                       "they may show as empty boxes: choose a family that has them with "
+                       "--font\n")  # fmt: skip
+    plain = tmp_path / "p.dag"
+    plain.write_text('label a "Dose, caf\u00e9"\na -> b\n', encoding="utf-8")
+    run = dagward("render", str(plain), "-o", str(out), "--font", "DejaVu Sans")
+    assert run.code == 0 and run.err == ""

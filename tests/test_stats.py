@@ -11,6 +11,7 @@ import itertools
 import math
 import os
 import stat
+import subprocess
 import sys
 import xml.etree.ElementTree as ET
 from pathlib import Path
@@ -19,6 +20,7 @@ import networkx as nx
 import numpy as np
 import pytest
 from dagward import stats as S
+from dagward.forest import claim_text
 from dagward.stats import (
     DataError,
     Independence,
@@ -512,10 +514,13 @@ def test_forest_plot_is_xml_with_one_labelled_row_per_test() -> None:
     root = ET.fromstring(svg)
     assert root.tag == f"{SVG}svg"
     rows = [g for g in root.iter(f"{SVG}g") if g.get("class") == "test-row"]
-    assert [g.get("data-label") for g in rows] == [t.label() for t in tests]
+    words = [claim_text(t.a, t.b, t.given) for t in tests]
+    assert words[0] == "a and b, holding fixed c" and words[1] == "a and d"
+    assert [t.label() for t in tests] == words  # no symbol anywhere a claim is named
+    assert [g.get("data-label") for g in rows] == words
     for g, test, result in zip(rows, tests, results, strict=True):
         texts = ["".join(t.itertext()) for t in g.iter(f"{SVG}text")]
-        assert texts[0] == test.label()
+        assert texts[0] == claim_text(test.a, test.b, test.given)
         markers = [el.tag for el in g if el.tag in (f"{SVG}rect", f"{SVG}circle", f"{SVG}path")]
         if not result.tested:
             assert markers == [] and texts[1].startswith("not tested")
@@ -527,6 +532,58 @@ def test_forest_plot_is_xml_with_one_labelled_row_per_test() -> None:
             assert markers == [f"{SVG}circle"]
     assert root.find(f"{SVG}title").text == "Wellness & sick days"
     assert any(r.rejected for r in results)  # a, b | c are correlated by construction
+
+
+def _forest_of_the_demo() -> str:
+    data = correlated(400, 4, seed=2)
+    table = Table.from_columns({**dict(zip("abcd", data.T, strict=True)),
+                                "g": np.where(data[:, 0] > 0, "yes", "no")})
+    tests = [Independence("a", "b", ("c",)), Independence("a", "d"),
+             Independence("g", "c", ("d",)), Independence("b", "d", ("a", "c")),
+             Independence("a", "missing")]
+    return forest_plot_svg(run_tests(table, tests), title="Forest", min_effect=0.1)
+
+
+def test_forest_plot_figures_stand_in_columns() -> None:
+    """Each right-hand figure is its own text element, anchored at its column's x."""
+    root = ET.fromstring(_forest_of_the_demo())
+    rows = [g for g in root.iter(f"{SVG}g") if g.get("class") == "test-row"]
+    tested = [[(t.get("x"), t.get("text-anchor")) for t in g.iter(f"{SVG}text")
+               if t.get("class") == "figure"] for g in rows]  # fmt: skip
+    assert [len(cells) for cells in tested] == [5, 5, 5, 5, 0]  # the last one is not tested
+    assert tested[0] == tested[1] == tested[2] == tested[3]  # the same x, the same anchor
+    assert [anchor for _, anchor in tested[0]] == ["end"] * 4 + ["start"]  # numbers align right
+    xs = [float(x) for x, _ in tested[0]]
+    assert xs == sorted(xs)
+
+
+def test_forest_plot_text_is_covered_by_its_fonts() -> None:
+    """No sign that common fonts lack (a conditional-independence sign showed as an
+    empty box with DejaVu Sans): every character is Latin-1, and every font of the
+    stack that is installed here has a glyph for each (read with fontTools)."""
+    from dagward.forest import FONT_STACK
+
+    svg = _forest_of_the_demo()
+    root = ET.fromstring(svg)
+    assert root.get("font-family") == FONT_STACK
+    used = {ch for t in root.iter(f"{SVG}text") for ch in "".join(t.itertext())}
+    assert "\u2aeb" not in svg and all(ord(ch) < 256 for ch in used), sorted(used)
+    fonttools = pytest.importorskip("fontTools.ttLib")
+    import shutil
+
+    if shutil.which("fc-match") is None:
+        pytest.skip("fontconfig's fc-match is needed to find the font files")
+    checked = 0
+    for family in [f.strip() for f in FONT_STACK.split(",")][:-1]:  # not the generic name
+        found = subprocess.run(["fc-match", "-f", "%{family}\n%{file}", family],
+                               capture_output=True, text=True).stdout.splitlines()  # fmt: skip
+        if len(found) < 2 or family.casefold() not in found[0].casefold():
+            continue  # not installed: fontconfig substituted another family
+        cmap = fonttools.TTFont(found[1], fontNumber=0).getBestCmap()
+        assert {ch for ch in used if ord(ch) not in cmap} == set(), family
+        checked += 1
+    if checked == 0:
+        pytest.skip("none of the stack's fonts is installed here")
 
 
 def test_forest_plot_with_no_results_is_valid_svg() -> None:

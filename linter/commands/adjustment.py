@@ -19,7 +19,7 @@ FORMATS = ("text", "json")
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
-    p.add_argument("file", metavar="FILE")
+    p.add_argument("file", metavar="FILE", help="the diagram")
     p.add_argument("--analysis", metavar="NAME", help="only this analysis")
     p.add_argument("--max", type=int, default=20, metavar="N",
                    help="list at most N minimal sets (default 20)")  # fmt: skip

@@ -20,10 +20,14 @@ FORMATS = ("text", "json", "sarif", "github")
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("paths", nargs="*", metavar="PATH", help="files or directories")
     p.add_argument("--data", metavar="CSV", help="also test the implied independencies on data")
-    p.add_argument("--alpha", type=float, default=0.05, help="significance level (with --data)")
-    p.add_argument("--min-effect", type=float, default=0.1, help="smallest |partial correlation| "
-                   "worth reporting (with --data)")  # fmt: skip
-    p.add_argument("--method", choices=("pearson", "spearman"), default="pearson")
+    p.add_argument("--alpha", type=float, default=0.05, metavar="A",
+                   help="level for Holm-adjusted p values (with --data; default 0.05)")  # fmt: skip
+    p.add_argument("--min-effect", type=float, default=0.1, metavar="R",
+                   help="smallest |effect| that counts as a rejection (with --data; "
+                   "default 0.1)")  # fmt: skip
+    p.add_argument("--method", choices=("pearson", "spearman"), default="pearson",
+                   help="correlation for numeric columns: pearson (linear) or spearman "
+                   "(ranks; with --data; default pearson)")  # fmt: skip
 
 
 def run(args: argparse.Namespace) -> int:

@@ -1,7 +1,11 @@
 """dagward fmt: rewrite diagram files in the canonical layout (see `dagward.fmt`).
 
-Exit status: 0 when every file is (or now is) formatted; 1 when `--check` finds a
-file that would change, or when a file does not parse (it is reported with
+Messages (our wording): `FILE: rewritten in the canonical layout`, with `--check`
+`FILE: layout differs from the canonical one`, and one summary line on stderr,
+`3 diagram files: 1 rewritten in the canonical layout, 2 already in it`.
+
+Exit status: 0 when every file is (or now is) in the canonical layout; 1 when
+`--check` finds a file whose layout differs, or when a file does not parse (it is reported with
 file:line:column and left untouched; the other files are still formatted);
 2 for usage and I/O problems. `--diff` alone prints the changes and exits 0;
 with `--check` too it exits 1 when there is any change.
@@ -27,11 +31,17 @@ FORMATS = ("text",)
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("paths", nargs="*", metavar="PATH", help="files or directories")
+    # `--check` and `--diff` are the contract's names (docs, pre-commit hook, CI
+    # recipes); they describe what the options do, as in many unrelated tools.
     p.add_argument(
-        "--check", action="store_true", help="change nothing; exit 1 when a file would change"
+        "--check",
+        action="store_true",
+        help="change nothing; name each file whose layout differs and exit 1 if any does",
     )
     p.add_argument(
-        "--diff", action="store_true", help="change nothing; print a unified diff of the changes"
+        "--diff",
+        action="store_true",
+        help="change nothing; show the layout changes as a unified diff",
     )
 
 
@@ -39,8 +49,8 @@ def unified_diff(path: str, before: str, after: str) -> str:
     lines = difflib.unified_diff(
         before.splitlines(keepends=True),
         after.splitlines(keepends=True),
-        fromfile=f"{path} (before)",
-        tofile=f"{path} (formatted)",
+        fromfile=f"{path} (as written)",
+        tofile=f"{path} (canonical layout)",
     )
     out = []
     for line in lines:
@@ -80,23 +90,33 @@ def run(args: argparse.Namespace) -> int:
             diffs.append(unified_diff(file, before, formatted))
         if args.check:
             if not args.diff:
-                sys.stdout.write(f"{file}: would reformat\n")
+                sys.stdout.write(f"{file}: layout differs from the canonical one\n")
         elif not args.diff:
             write_atomic(file, formatted)
             if not args.quiet:
-                sys.stdout.write(f"{file}: reformatted\n")
+                sys.stdout.write(f"{file}: rewritten in the canonical layout\n")
     if args.diff and diffs:
         emit(args, "".join(diffs))
     if not args.quiet:
-        verb = "would be reformatted" if (args.check or args.diff) else "reformatted"
-        unchanged = len(files) - len(changed) - len(broken)
-        summary = f"{len(changed)} {_files(len(changed))} {verb}, {unchanged} unchanged"
-        if broken:
-            summary += f", {len(broken)} not formatted (syntax error)"
-        sys.stderr.write(summary + "\n")
+        wrote = not (args.check or args.diff)
+        sys.stderr.write(summary(len(files), len(changed), len(broken), wrote=wrote) + "\n")
     if broken or (args.check and changed):
         return 1
     return 0
+
+
+def summary(total: int, changed: int, broken: int, *, wrote: bool) -> str:
+    """One line on stderr: how many files were read and what became of them.
+
+    Worded from the diagram's point of view (its layout is part of what the file
+    is): `3 diagram files: 1 rewritten in the canonical layout, 2 already in it`.
+    """
+    canonical = total - changed - broken
+    done = "rewritten in the canonical layout" if wrote else "not in the canonical layout"
+    parts = [f"{changed} {done}", f"{canonical} already in it"]
+    if broken:
+        parts.append(f"{broken} not read (syntax error, left as it was)")
+    return f"{total} diagram {_files(total)}: " + ", ".join(parts)
 
 
 def _files(n: int) -> str:

@@ -2,23 +2,31 @@
 
 One statement per pair of measured variables that no arrow (and no `<->`)
 joins and that some set of measured variables d-separates, with an
-inclusion-minimal such set (`dagward.causal.implied_independencies`). Text
-output, one a line:
+inclusion-minimal such set (`dagward.causal.minimal_separator`). The text is a
+table of our own design, in words rather than symbols:
 
-    age ⫫ shift_work
-    enrolled ⫫ shift_work | fitness_base
+    Independencies implied by samples/wellness.dag (6), fewest variables held fixed first:
 
-`--ascii` (or a stdout whose encoding cannot write ⫫) prints
-`enrolled indep shift_work given fitness_base` instead.
+    pair                        holding fixed
+    --------------------------  ------------------------------
+    age and fitness_base        nothing
+    enrolled and shift_work     fitness_base
+    ...
 
-With `--data FILE.csv` each statement is tested (see `dagward.stats`) and a
-table is printed: independence, n, statistic, p, Holm p, effect [95% interval],
-verdict (`rejected`, `small` = significant but below --min-effect,
-`consistent`, or `not tested` with the reason). `--plot OUT.svg` writes a
-forest plot of the effects. The exit status is 1 when an independence is
-rejected and `independence-rejected` is at or above --fail-on (by default it
-is a warning, so 0), or when a needed column is missing (`missing-column`, an
-error).
+Rows are ordered by how many variables each claim holds fixed (then by name):
+a claim that holds more variables fixed is a weaker test, since every one of
+them must be measured and modelled well. With `--data FILE.csv` each claim is
+tested (see `dagward.stats`) and the same table gains the figures: n,
+statistic, p, Holm p, effect [95% interval] and the verdict (`rejected`,
+`small` = significant but below --min-effect, `consistent`); claims that could
+not be tested follow in a second table with the reason. `--plot OUT.svg`
+writes a forest plot of the effects. The exit status is 1 when an independence
+is rejected and `independence-rejected` is at or above --fail-on (by default
+it is a warning, so 0), or when a needed column is missing (`missing-column`,
+an error).
+
+`--max N` stops after N claims (pairs are examined in name order) and says so;
+on a terminal, stderr shows how many pairs have been examined.
 
 JSON (`--format json`):
 
@@ -31,6 +39,7 @@ JSON (`--format json`):
         {"a": "age", "b": "fitness_12m", "given": ["enrolled", "fitness_base"],
          "test": {...}}                               # "test" only with --data
       ],
+      "truncated": false,                             # true when --max stopped the search
       "data": null | {"file": "...", "rows": 2000, "method": "pearson",
                       "alpha": 0.05, "min_effect": 0.1, "rejected": 1}
     }
@@ -47,6 +56,7 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+from dataclasses import dataclass
 
 from ..errors import UsageProblem
 from ..version import __version__
@@ -59,51 +69,132 @@ HELP = (
 )
 FORMATS = ("text", "json")
 
-SIGN = "\u2aeb"
-
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("file", metavar="FILE", help="the diagram")
     p.add_argument("--data", metavar="CSV", help="test each independence against this data")
-    p.add_argument("--alpha", type=float, default=0.05,
+    p.add_argument("--alpha", type=float, default=0.05, metavar="A",
                    help="level for Holm-adjusted p values (default 0.05)")  # fmt: skip
-    p.add_argument("--min-effect", type=float, default=0.1,
+    p.add_argument("--min-effect", type=float, default=0.1, metavar="R",
                    help="smallest |effect| that counts as a rejection (default 0.1)")  # fmt: skip
     p.add_argument("--method", choices=("pearson", "spearman"), default="pearson",
-                   help="correlation for numeric columns (default pearson)")  # fmt: skip
+                   help="correlation for numeric columns: pearson (linear) or spearman "
+                   "(ranks; default pearson)")  # fmt: skip
     p.add_argument(
         "--plot", metavar="OUT.svg", help="write a forest plot of the effects (with --data)"
     )
-    p.add_argument("--ascii", action="store_true", help="write `a indep b given c` instead of ⫫")
+    p.add_argument("--max", type=int, default=None, metavar="N",
+                   help="stop after N independencies (default: all); the output says when it "
+                   "was cut")  # fmt: skip
+    # The table is plain ASCII now; --ascii stays accepted so old scripts still run.
+    p.add_argument("--ascii", action="store_true", help=argparse.SUPPRESS)
 
 
-def statement(a: str, b: str, given: tuple[str, ...] | list[str], ascii_only: bool) -> str:
-    """`a ⫫ b | c, d`, or `a indep b given c, d`."""
-    if ascii_only:
-        text = f"{a} indep {b}"
-        return text + (" given " + ", ".join(given) if given else "")
-    text = f"{a} {SIGN} {b}"
-    return text + (" | " + ", ".join(given) if given else "")
+PROGRESS_EVERY = 0.2  # seconds between two progress updates on a terminal
 
 
-def _stdout_can_write(text: str) -> bool:
-    encoding = getattr(sys.stdout, "encoding", None) or "ascii"
+def pair_text(a: str, b: str) -> str:
+    """How the table names a pair: `age and shift_work`."""
+    return f"{a} and {b}"
+
+
+def held_fixed_text(given: tuple[str, ...] | list[str]) -> str:
+    """What a claim holds fixed: `age, fitness_base`, or `nothing`."""
+    return ", ".join(given) if given else "nothing"
+
+
+def reading_order(items, key=lambda item: item):
+    """Fewest variables held fixed first (the strongest tests), then by name."""
+    return sorted(items, key=lambda item: (len(key(item).given), key(item).a, key(item).b))
+
+
+@dataclass(frozen=True)
+class Listing:
+    """The implied independencies found, and whether `--max` cut the search."""
+
+    independencies: list
+    cut: bool
+    pairs_examined: int
+    pairs_total: int
+
+
+def find_independencies(diagram, limit: int | None = None, progress=None) -> Listing:
+    """The implied independencies in name order (as `dagward.data.implied`), at most `limit`.
+
+    `progress(examined, total, found)` is called now and then, and once at the end.
+    """
+    import time
+
+    from ..causal import minimal_separator
+    from ..causal.dsep import arrow_between
+    from ..stats import Independence
+
+    G = diagram.graph
+    names = sorted(diagram.measured)
+    total = len(names) * (len(names) - 1) // 2
+    found: list = []
+    examined = 0
+    last = time.monotonic()
+    cut = False
+    for i, a in enumerate(names):
+        for b in names[i + 1 :]:
+            if limit is not None and len(found) >= limit:
+                cut = True
+                break
+            examined += 1
+            if not arrow_between(G, a, b):
+                sep = minimal_separator(G, a, b, names)
+                if sep is not None:
+                    found.append(Independence(a, b, tuple(sorted(sep))))
+            if progress is not None and time.monotonic() - last >= PROGRESS_EVERY:
+                last = time.monotonic()
+                progress(examined, total, len(found))
+        if cut:
+            break
+    if progress is not None:
+        progress(examined, total, len(found))
+    return Listing(found, cut, examined, total)
+
+
+def _terminal_progress(examined: int, total: int, found: int) -> None:
+    sys.stderr.write(
+        f"\rlooking for implied independencies: {examined:,} of {total:,} pairs examined, "
+        f"{found:,} found"
+    )
+    sys.stderr.flush()
+
+
+def _stderr_is_terminal() -> bool:
     try:
-        text.encode(encoding)
-    except (UnicodeEncodeError, LookupError):
+        return sys.stderr.isatty()
+    except (AttributeError, ValueError):
         return False
-    return True
 
 
 def run(args: argparse.Namespace) -> int:
     settings = settings_from(args)
     if args.plot and not args.data:
         raise UsageProblem("--plot needs --data (the plot shows the tests' effects)")
+    if args.plot and not args.plot.lower().endswith(".svg"):
+        # Only SVG is drawn: never write SVG bytes under another format's name.
+        raise UsageProblem(
+            f"the forest plot is drawn as SVG only, so name it OUT.svg, not `{args.plot}` "
+            "(a browser or vector editor converts SVG to PNG or PDF)"
+        )
     result = load_clean(args.file, settings)
     diagram = result.diagram
-    from ..data import DataOptions, implied
+    from ..data import DataOptions
 
-    independencies = implied(diagram)
+    if args.max is not None and args.max < 1:
+        raise UsageProblem("--max must be at least 1")
+    show = _terminal_progress if _stderr_is_terminal() and not args.quiet else None
+    try:
+        listing = find_independencies(diagram, args.max, show)
+    finally:
+        if show is not None:
+            sys.stderr.write("\r\033[K")
+            sys.stderr.flush()
+    independencies = listing.independencies
     options = table = results = None
     findings = []
     rejected_severity = None
@@ -123,16 +214,17 @@ def run(args: argparse.Namespace) -> int:
         results = run_tests(table, independencies, options)
         if settings.is_enabled(independence_rejected.RULE) and any(r.rejected for r in results):
             rejected_severity = settings.severity_of(independence_rejected.RULE)
-    ascii_only = args.ascii or (not args.output and not _stdout_can_write(SIGN))
     if args.format == "json":
-        text = _json(args, diagram, independencies, results, options, table, ascii_only)
-    elif results is None:
-        text = "".join(statement(i.a, i.b, i.given, ascii_only) + "\n" for i in independencies)
+        text = _json(args, diagram, independencies, results, options, table, listing)
     else:
-        text = _table(results, options, ascii_only)
+        text = _text(args, independencies, results, options, listing)
+        if not args.output and not _stdout_can_write(text):
+            # a terminal that cannot show a name: \x.. escapes, never a crash
+            encoding = getattr(sys.stdout, "encoding", None) or "ascii"
+            text = text.encode(encoding, "backslashreplace").decode(encoding)
     emit(args, text)
     if not args.quiet:
-        _notes(args, independencies, results, findings, diagram)
+        _notes(args, independencies, results, findings, diagram, listing)
     if args.plot and results is not None:
         _plot(args, diagram, results, options)
     from ..findings import SEVERITY_RANK
@@ -142,11 +234,16 @@ def run(args: argparse.Namespace) -> int:
     return 1 if any(SEVERITY_RANK[s] >= threshold for s in severities) else 0
 
 
-def _notes(args, independencies, results, findings, diagram) -> None:
+def _notes(args, independencies, results, findings, diagram, listing) -> None:
     if not independencies:
         sys.stderr.write(
             f"dagward: {args.file} implies no independence among its "
             f"{len(diagram.measured)} measured variables\n"
+        )
+    if listing.cut:
+        sys.stderr.write(
+            f"dagward: stopped at --max {args.max}: {listing.pairs_examined:,} of "
+            f"{listing.pairs_total:,} pairs examined\n"
         )
     for f in findings:
         if f.rule == "missing-column":
@@ -161,37 +258,118 @@ def _notes(args, independencies, results, findings, diagram) -> None:
         )
 
 
-def _table(results, options, ascii_only: bool) -> str:
+def _grid(header: tuple[str, ...], rows: list[tuple[str, ...]], right: set[int]) -> list[str]:
+    """Columns padded to their widest cell, a rule of dashes under the header.
+
+    Columns in `right` (figures) are right-aligned, the others left-aligned.
+    """
+    widths = [max(len(row[i]) for row in [header, *rows]) for i in range(len(header))]
+
+    def line(cells) -> str:
+        out = [c.rjust(w) if i in right else c.ljust(w)
+               for i, (c, w) in enumerate(zip(cells, widths, strict=True))]  # fmt: skip
+        return "  ".join(out).rstrip()
+
+    return [line(header), line(tuple("-" * w for w in widths)), *(line(r) for r in rows)]
+
+
+WEAKER_TEST_NOTE = (
+    "A claim that holds more variables fixed is a weaker test: each of them must be "
+    "measured and modelled well."
+)
+
+
+def _cut_note(args, listing) -> str:
+    if not listing.cut:
+        return ""
+    return (
+        f" (cut at --max {args.max}: {listing.pairs_examined:,} of {listing.pairs_total:,} "
+        "pairs examined, in name order)"
+    )
+
+
+def _text(args, independencies, results, options, listing) -> str:
+    """The table(s) a reader sees: see the module docstring."""
+    if not independencies:
+        return ""
+    cut = _cut_note(args, listing)
+    if results is None:
+        ordered = reading_order(independencies)
+        rows = [(pair_text(i.a, i.b), held_fixed_text(i.given)) for i in ordered]
+        lines = [
+            *_prose(
+                f"Independencies implied by {args.file} ({len(rows)}){cut}, "
+                "fewest variables held fixed first:"
+            ),
+            "",
+            *_grid(("pair", "holding fixed"), rows, set()),
+            "",
+            *_prose(WEAKER_TEST_NOTE),
+        ]
+        return "\n".join(lines) + "\n"
     from ..data import format_effect, format_p, format_statistic, verdict
 
-    header = ("independence", "n", "statistic", "p", "Holm p", "effect [95% interval]", "verdict")
-    rows = [header]
-    for r in results:
-        ind = r.independence
-        v = verdict(r, options)
-        if r.note:
-            v += f" ({r.note})"
-        rows.append(
-            (
-                statement(ind.a, ind.b, ind.given, ascii_only),
-                str(r.n),
-                format_statistic(r),
-                format_p(r.p),
-                format_p(r.p_adjusted),
-                format_effect(r),
-                v,
-            )
+    tested = reading_order([r for r in results if r.tested], key=lambda r: r.independence)
+    untested = reading_order([r for r in results if not r.tested], key=lambda r: r.independence)
+    lines = [
+        *_prose(
+            f"Independencies implied by {args.file}, tested on {args.data} "
+            f"({len(tested)} tested){cut}, fewest variables held fixed first:"
+        ),
+        "",
+    ]
+    header = ("pair", "holding fixed", "n", "statistic", "p", "Holm p",
+              "effect [95% interval]", "verdict")  # fmt: skip
+    rows = [
+        (
+            pair_text(r.independence.a, r.independence.b),
+            held_fixed_text(r.independence.given),
+            str(r.n),
+            format_statistic(r),
+            format_p(r.p),
+            format_p(r.p_adjusted),
+            format_effect(r),
+            verdict(r, options),
         )
-    widths = [max(len(row[i]) for row in rows) for i in range(len(header) - 1)]
-    lines = []
-    for row in rows:
-        cells = [cell.ljust(w) if i == 0 else cell.rjust(w) for i, (cell, w) in
-                 enumerate(zip(row, widths, strict=False))]  # fmt: skip
-        lines.append("  ".join(cells + [row[-1]]).rstrip())
+        for r in tested
+    ]
+    if rows:
+        lines += _grid(header, rows, {2, 3, 4, 5, 6})
+    else:
+        lines.append("(none could be tested)")
+    if untested:
+        lines += ["", f"Not tested ({len(untested)}):", ""]
+        lines += _grid(
+            ("pair", "holding fixed", "reason"),
+            [
+                (
+                    pair_text(r.independence.a, r.independence.b),
+                    held_fixed_text(r.independence.given),
+                    r.note or "no result",
+                )
+                for r in untested
+            ],
+            set(),
+        )
+    lines += [
+        "",
+        *_prose(
+            f"Verdicts: rejected = Holm p < {options.alpha} and |effect| >= "
+            f"{options.min_effect}; small = Holm p < {options.alpha} but |effect| < "
+            f"{options.min_effect}; consistent = not rejected (which does not confirm the claim)."
+        ),
+        *_prose(WEAKER_TEST_NOTE),
+    ]
     return "\n".join(lines) + "\n"
 
 
-def _json(args, diagram, independencies, results, options, table, ascii_only: bool) -> str:
+def _prose(text: str) -> list[str]:
+    import textwrap
+
+    return textwrap.wrap(text, 88, break_long_words=False, break_on_hyphens=False)
+
+
+def _json(args, diagram, independencies, results, options, table, listing) -> str:
     from ..data import verdict
 
     items = []
@@ -220,9 +398,21 @@ def _json(args, diagram, independencies, results, options, table, ascii_only: bo
         "file": args.file,
         "measured": sorted(diagram.measured),
         "independencies": items,
+        "truncated": listing.cut,
         "data": data,
     }
+    # \u escapes when asked, or when stdout cannot write the names as they are
+    ascii_only = args.ascii or (not args.output and not _stdout_can_write("\u00e9\u2212"))
     return json.dumps(out, indent=2, ensure_ascii=ascii_only) + "\n"
+
+
+def _stdout_can_write(text: str) -> bool:
+    encoding = getattr(sys.stdout, "encoding", None) or "ascii"
+    try:
+        text.encode(encoding)
+    except (UnicodeEncodeError, LookupError):
+        return False
+    return True
 
 
 def _plot(args, diagram, results, options) -> None:
