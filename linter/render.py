@@ -15,6 +15,7 @@ who do not tell colours apart -- only one shade of grey is used):
 | arrow on an open non-causal path (given `adjust:`) | dotted line |
 | arrow on both kinds of path | thick dotted line |
 | `a <-> b` (hidden common cause) | dashed line with a head at both ends; no node |
+| arrow new or reversed in a `diff` picture (Mermaid) | thick orange line (the one colour) |
 | label | the `label` text, with the variable's name in small type beneath |
 | periods | columns from left to right in file order, headed by the period's name |
 
@@ -49,6 +50,7 @@ ENUMERATE_MAX_VARIABLES = 300
 WITNESS_ROUNDS = 50
 LABEL_WIDTH = 22  # characters per line of a label: keeps boxes narrow and legible
 ADJUSTED_FILL = "#d4d4d4"
+HIGHLIGHT = "#e8590c"  # the one colour: arrows a caller marks (`diff`: changed arrows)
 
 INSTALL_GRAPHVIZ = (
     "Graphviz's `dot` program is needed for .svg and .png but was not found on PATH; "
@@ -82,6 +84,7 @@ class EdgeStyle:
     bidirected: bool = False
     causal: bool = False  # on a proper causal path from the exposure to the outcome
     open_noncausal: bool = False  # on a proper non-causal path open given `adjust:`
+    highlighted: bool = False  # marked by the caller (`diff`: new or reversed arrows)
 
     @property
     def classes(self) -> tuple[str, ...]:
@@ -90,6 +93,8 @@ class EdgeStyle:
             out.append("causal")
         if self.open_noncausal:
             out.append("open-noncausal")
+        if self.highlighted:
+            out.append("highlighted")
         return tuple(out)
 
 
@@ -128,8 +133,13 @@ def choose_analysis(diagram: Diagram, name: str | None) -> tuple[Analysis | None
     return analyses[0], None
 
 
-def picture(diagram: Diagram, analysis: Analysis | None) -> Picture:
-    """Work out the style of every variable and arrow for one analysis (or none)."""
+def picture(
+    diagram: Diagram,
+    analysis: Analysis | None,
+    highlight: frozenset[tuple[str, str, str]] = frozenset(),
+) -> Picture:
+    """Work out the style of every variable and arrow for one analysis (or none);
+    arrows whose `model.arrow_key` is in `highlight` are marked `highlighted`."""
     X = analysis.exposure_set if analysis else frozenset()
     Y = analysis.outcome_set if analysis else frozenset()
     Z = (analysis.adjust_set or frozenset()) if analysis else frozenset()
@@ -179,7 +189,11 @@ def picture(diagram: Diagram, analysis: Analysis | None) -> Picture:
             seen.add(key)
             edges.append(
                 EdgeStyle(
-                    a, b, bidirected=True, open_noncausal=frozenset((a, b)) in open_bidirected
+                    a,
+                    b,
+                    bidirected=True,
+                    open_noncausal=frozenset((a, b)) in open_bidirected,
+                    highlighted=arrow.key in highlight,
                 )
             )
         else:
@@ -193,6 +207,7 @@ def picture(diagram: Diagram, analysis: Analysis | None) -> Picture:
                     b,
                     causal=(a, b) in causal_edges,
                     open_noncausal=(a, b) in open_directed,
+                    highlighted=arrow.key in highlight,
                 )
             )
     periods = tuple(
@@ -420,7 +435,11 @@ def to_mermaid(pic: Picture) -> str:
     styles: list[str] = []
     for index, edge in enumerate(pic.edges):
         a, b = ids[edge.source], ids[edge.target]
-        if edge.bidirected:
+        if edge.highlighted:
+            # a thick link in the highlight colour, whatever else it is
+            out.append(f"  {a} {'<==>' if edge.bidirected else '==>'} {b}")
+            styles.append(f"  linkStyle {index} stroke:{HIGHLIGHT},stroke-width:4px")
+        elif edge.bidirected:
             out.append(f"  {a} <-.-> {b}")
             dash = "2 4" if edge.open_noncausal else "7 4"
             width = "2px" if edge.open_noncausal else "1.5px"

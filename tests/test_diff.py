@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import subprocess
 from itertools import combinations
 from pathlib import Path
@@ -21,6 +22,7 @@ import networkx as nx
 import pytest
 
 from linter.cli import main
+from linter.engine import lint_source
 
 WELLNESS = """\
 title "Wellness programme and sick days"
@@ -203,10 +205,13 @@ def test_added_arrow_makes_declared_set_insufficient(history, capsys):
     assert before["minimal_sets"] == oracle_minimal_sets(G1, "enrolled", "sick_days", MEASURED)
     assert after["minimal_sets"] == oracle_minimal_sets(G2, "enrolled", "sick_days", MEASURED)
     assert after["minimal_sets"] == [["age", "fitness_base", "shift_work"]]
-    # the causal rules' own finding comes along, at the `adjust:` key (line 11)
+    # the verdict's reason comes along, worded as `check` words its finding
     (problem,) = after["problems"]
-    assert (problem["rule"], problem["line"]) == ("open-biasing-path", 11)
+    assert problem["rule"] == "open-biasing-path"
     assert problem["path"] == ["enrolled", "shift_work", "sick_days"]
+    assert problem["fixable"] == ["shift_work"]
+    (finding,) = [f for f in lint_source(WELLNESS_2, "w.dag").findings if f.analysis]
+    assert (finding.rule, finding.message) == (problem["rule"], problem["message"])
     assert before["problems"] == []
     assert (
         "this change makes the declared set {age, fitness_base} insufficient: the new arrow "
@@ -339,13 +344,25 @@ def test_markdown_has_mermaid_with_marked_new_arrow(history, capsys):
     assert md.startswith("## Causal diagrams in this change\n")
     assert "### `wellness.dag` (modified)" in md
     mermaid = md.split("```mermaid\n", 1)[1].split("```", 1)[0].splitlines()
-    assert mermaid[0] == "flowchart LR"
-    ids = {line.split("[")[0].strip(): line.split('"')[1] for line in mermaid if '["' in line}
+    assert "flowchart LR" in mermaid
+    # the one Mermaid writer (linter.render) drew it: same text as `render` of the file
+    from linter.render import picture, to_mermaid
+    from linter.syntax import parse_source
+
+    diagram, _ = parse_source(WELLNESS_3, "wellness.dag")
+    plain = to_mermaid(picture(diagram, None)).splitlines()
+    ids = dict(re.findall(r'^  (v\d+)\("([^"]+)"\)$', "\n".join(mermaid), re.M))
     names = {v: k for k, v in ids.items()}
     new_link = f"  {names['shift_work']} ==> {names['sick_days']}"
     assert new_link in mermaid
-    index = [line for line in mermaid if "-->" in line or "==>" in line].index(new_link)
+    links = [line for line in mermaid if re.match(r"^  v\d+ \S+ v\d+$", line)]
+    index = links.index(new_link)
     assert f"  linkStyle {index} stroke:#e8590c,stroke-width:4px" in mermaid
+    # only the new arrow differs from the plain picture
+    assert [x for x in mermaid if x not in plain] == [
+        new_link,
+        f"  linkStyle {index} stroke:#e8590c,stroke-width:4px",
+    ]
     assert f"  {names['age']} --> {names['sick_days']}" in mermaid
     assert not any(f"{names['age']} --> {names['enrolled']}" in line for line in mermaid)
     assert "Thick orange links are new in this change" in md
@@ -400,45 +417,37 @@ def test_cli_subprocess_exit_code(history):
     assert "heat.dag -> models/heat.dag (renamed)" in done.stdout
 
 
-def test_the_causal_rules_path_is_used_when_reported():
-    """When a causal rule reports the open path, the remark spells that path (the one
-    `check` shows), and the rule appears in the verdict."""
-    from dataclasses import replace
-
+def test_the_verdicts_path_and_reasons_are_used():
+    """The remark spells the path of the verdict's own problem (the one `check` shows)
+    and names the new arrow on it; the verdict row lists the verdict's rules."""
     from linter.diff import Side, compare
-    from linter.engine import lint_source
-    from linter.findings import Finding
-    from linter.model import Span
+    from linter.report.diff import remarks, verdict_text
+    from linter.verdict import Verdict
+    from linter.wording import spell_path
 
-    new_text = WELLNESS_2 + "enrolled <-> sick_days\n"
+    new_text = WELLNESS + "enrolled <-> sick_days\n"
     old = Side("w.dag", lint_source(WELLNESS, "w.dag"))
-    result = lint_source(new_text, "w.dag")
-    rule_finding = Finding(
-        rule="open-biasing-path",
-        severity="error",
-        file="w.dag",
-        span=Span(10, 3, 10, 9),
-        message="the path enrolled <-> sick_days has no adjusted variable",
-        analysis="total_effect",
-        path=("enrolled", "<->", "sick_days"),
-    )
-    new = Side("w.dag", replace(result, findings=[*result.findings, rule_finding]))
+    new = Side("w.dag", lint_source(new_text, "w.dag"))
     f = compare(old, new, "modified")
     (a,) = f.analyses
-    assert a.remarks[0] == (
+    verdict = Verdict(new.diagram, new.diagram.analysis("total_effect"))
+    (problem,) = verdict.problems
+    assert problem.rule == "unmeasured-confounding"
+    assert spell_path(verdict.graph, problem.path) == "enrolled <-> sick_days"
+    words = remarks(a, f)
+    assert words[0] == (
         "this change makes the declared set {age, fitness_base} insufficient: the new arrow "
         "`enrolled <-> sick_days` opens `enrolled <-> sick_days`"
     )
-    reported = [r for r in a.remarks if r.startswith("now reported: ")]
-    assert reported and "open-biasing-path" in reported[0]
-    assert a.after.problems[0].path == ("enrolled", "<->", "sick_days")
-    from linter.diff import _verdict
-
-    assert _verdict(a.after).startswith("not valid (open-biasing-path")
-    assert sorted(x.describe() for x in f.arrows_added) == [
-        "enrolled <-> sick_days",
-        "shift_work -> sick_days",
-    ]
+    assert "now reported: unmeasured-confounding" in words
+    assert verdict_text(a.after) == "not valid (unmeasured-confounding)"
+    # the check finding says the same thing in the same words
+    (finding,) = [x for x in new.result.findings if x.analysis == "total_effect"]
+    assert (finding.rule, finding.path) == (
+        "unmeasured-confounding",
+        ("enrolled", "<->", "sick_days"),
+    )
+    assert [x.key for x in f.arrows_added] == [("<->", "enrolled", "sick_days")]
 
 
 def test_paths_limit_the_comparison_from_a_subdirectory(history, capsys, monkeypatch):
