@@ -458,3 +458,169 @@ def test_paths_limit_the_comparison_from_a_subdirectory(history, capsys, monkeyp
     assert [(f["status"], f["old_path"], f["new_path"]) for f in doc["files"]] == [
         ("renamed", "heat.dag", "models/heat.dag")
     ]
+
+
+# --- facts, not wording (each failed on the comparison before the verdict) -------------
+
+
+def two_file_json(tmp_path, capsys, old: str, new: str) -> dict:
+    write(tmp_path, "old.dag", old)
+    write(tmp_path, "new.dag", new)
+    code = main(["diff", "--format", "json", str(tmp_path / "old.dag"), str(tmp_path / "new.dag")])
+    out = capsys.readouterr()
+    assert code == 0, out.err
+    (f,) = json.loads(out.out)["files"]
+    return f
+
+
+def two_file_text(tmp_path, capsys) -> list[str]:
+    assert main(["diff", str(tmp_path / "old.dag"), str(tmp_path / "new.dag")]) == 0
+    return capsys.readouterr().out.splitlines()
+
+
+def test_shifted_lines_alone_change_no_analysis(tmp_path, capsys):
+    # the declared set is not valid on both sides; a comment moves every line down,
+    # so only where the finding sits changes -- no fact of the analysis does
+    f = two_file_json(tmp_path, capsys, WELLNESS_2, "# reviewed\n" + WELLNESS_2)
+    (a,) = f["analyses"]
+    assert a["status"] == "unchanged" and a["remarks"] == []
+    assert a["before"]["declared_valid"] is a["after"]["declared_valid"] is False
+    assert "  analysis total_effect: unchanged (not valid (open-biasing-path))" in (
+        two_file_text(tmp_path, capsys)
+    )
+
+
+def test_reversed_arrow_is_one_reversal(tmp_path, capsys):
+    old = "age -> enrolled\nenrolled -> sick_days\nfitness -> enrolled\nfitness -> sick_days\n"
+    new = old.replace("fitness -> enrolled", "enrolled -> fitness")
+    f = two_file_json(tmp_path, capsys, old, new)
+    assert f["arrows_added"] == [] and f["arrows_removed"] == []
+    assert f["arrows_reversed"] == [
+        {"arrow": "enrolled -> fitness", "was": "fitness -> enrolled", "source": "enrolled",
+         "target": "fitness", "line": 3, "old_line": 3}
+    ]  # fmt: skip
+    text = two_file_text(tmp_path, capsys)
+    assert "  arrows reversed:" in text
+    assert "    ~ `enrolled -> fitness` (line 3), was `fitness -> enrolled` (line 3)" in text
+    assert not any(line.startswith(("    + ", "    - ")) for line in text)
+
+
+# Front door (Pearl 1995, "Causal diagrams for empirical research", Biometrika 82(4),
+# the front-door criterion): a hidden cause of exposure and outcome, the whole
+# effect through a measured mediator. The scenario is invented.
+FRONT_DOOR = """\
+unmeasured motivation
+motivation -> enrolled, sick_days
+enrolled -> steps -> sick_days
+
+analysis total_effect {
+  exposure: enrolled
+  outcome: sick_days
+}
+"""
+
+
+def test_front_door_lost_and_gained_in_words(tmp_path, capsys):
+    direct = FRONT_DOOR + "enrolled -> sick_days\n"  # the mediator no longer carries it all
+    f = two_file_json(tmp_path, capsys, FRONT_DOOR, direct)
+    (a,) = f["analyses"]
+    before, after = a["before"], a["after"]
+    assert (before["identifiable"], before["route"], before["front_door"]) == (
+        False, "front-door", ["steps"]
+    )  # fmt: skip
+    assert (after["identifiable"], after["route"], after["front_door"]) == (False, "none", None)
+    assert a["status"] == "changed"
+    assert a["remarks"] == [
+        "the front-door criterion no longer holds (it held for {steps}): the effect is now "
+        "identified neither by adjustment nor by the front-door criterion"
+    ]
+    text = two_file_text(tmp_path, capsys)
+    assert (
+        "    identification: by the front-door criterion only (for {steps}) -> "
+        "neither by adjustment nor by the front-door criterion"
+    ) in text
+    # and back
+    f = two_file_json(tmp_path, capsys, direct, FRONT_DOOR)
+    (a,) = f["analyses"]
+    assert a["remarks"] == [
+        "the front-door criterion now holds (for {steps}): the effect is identified through "
+        "it although no valid adjustment set exists"
+    ]
+
+
+def test_json_and_text_speak_the_same_verdict(tmp_path, capsys):
+    # no valid adjustment set after the change, but the front door holds: JSON says
+    # identifiable false (by adjustment) and route front-door; the text says exactly that
+    old = FRONT_DOOR.replace("unmeasured motivation\n", "")
+    f = two_file_json(tmp_path, capsys, old, FRONT_DOOR)
+    (a,) = f["analyses"]
+    assert (a["before"]["identifiable"], a["before"]["route"]) == (True, "adjustment")
+    assert (a["after"]["identifiable"], a["after"]["route"]) == (False, "front-door")
+    text = two_file_text(tmp_path, capsys)
+    assert [line.removeprefix("    ! ") for line in text if line.startswith("    ! ")] == (
+        a["remarks"]
+    )
+    assert a["remarks"][0] == (
+        "no valid adjustment set exists any more among the measured variables: the effect is "
+        "no longer identifiable by covariate adjustment; the front-door criterion still holds "
+        "(for {steps}), so the effect stays identified that way"
+    )
+    assert (
+        "    identification: by adjustment -> by the front-door criterion only (for {steps})"
+        in (text)
+    )
+    assert "    minimal adjustment sets: {motivation} -> none exists" in text
+
+
+def test_an_instrument_is_a_note_not_a_reason(tmp_path, capsys):
+    old = "distance -> enrolled\nenrolled -> sick_days\nage -> enrolled, sick_days\n" + (
+        "analysis total_effect {\n  exposure: enrolled\n  outcome: sick_days\n  adjust: age\n}\n"
+    )
+    new = old.replace("adjust: age", "adjust: age, distance")
+    f = two_file_json(tmp_path, capsys, old, new)
+    (a,) = f["analyses"]
+    after = a["after"]
+    assert after["declared_valid"] is True and after["problems"] == []
+    assert [n["rule"] for n in after["notes"]] == ["instrument-adjusted"]
+    assert "new note: instrument-adjusted for `distance`" in a["remarks"]
+    assert "    verdict: valid -> valid (note: instrument-adjusted)" in two_file_text(
+        tmp_path, capsys
+    )
+    # with an invalid set too, the instrument stays out of the reasons
+    worse = new.replace("adjust: age, distance", "adjust: distance")
+    f = two_file_json(tmp_path, capsys, old, worse)
+    after = f["analyses"][0]["after"]
+    assert after["declared_valid"] is False
+    assert [p["rule"] for p in after["problems"]] == ["open-biasing-path"]
+    assert [n["rule"] for n in after["notes"]] == ["instrument-adjusted"]
+    text = two_file_text(tmp_path, capsys)
+    assert "    verdict: valid -> not valid (open-biasing-path; note: instrument-adjusted)" in text
+
+
+# --- the merge base (on a branch behind main) -------------------------------------------
+
+
+def test_base_main_is_the_merge_base_on_a_branch_behind_main(history, capsys):
+    repo, shas = history
+    # a branch that left main at c3; main went on with c4 (rename) and c5 (delete)
+    git(repo, "checkout", "-q", "-b", "feature", shas["c3"])
+    write(repo, "wellness.dag", WELLNESS_3 + "enrolled <-> sick_days\n")
+    git(repo, "commit", "-q", "-am", "a hidden common cause")
+    feature = git(repo, "rev-parse", "HEAD")
+    label = f"{shas['c3'][:7]} (merge base of HEAD and main; main is at {shas['c5'][:7]})"
+    for head in ([], ["--head", "HEAD"]):
+        doc = run_json(capsys, "--base", "main", *head)
+        # main's own later changes (heat.dag renamed, soil.dag deleted) are not the branch's
+        assert [(f["status"], f["new_path"]) for f in doc["files"]] == [
+            ("modified", "wellness.dag")
+        ]
+        assert doc["base_commit"] == shas["c3"]
+        assert doc["base"] == label
+    assert doc["head_commit"] == feature
+    assert main(["diff", "--base", "main"]) == 0
+    assert capsys.readouterr().out.splitlines()[0] == f"dagward diff: {label} -> working tree"
+    assert main(["diff", "--base", "main", "--format", "markdown"]) == 0
+    assert f"Comparing {label} with working tree." in capsys.readouterr().out
+    # the tip of main would have shown the branch deleting soil.dag and un-renaming heat
+    done = git(repo, "diff", "--name-status", "main", "HEAD")
+    assert "soil.dag" in done and "heat.dag" in done
