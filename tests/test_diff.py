@@ -20,9 +20,19 @@ from pathlib import Path
 
 import networkx as nx
 import pytest
+from helpers.dag_text import to_dag_text
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+from test_causal_oracle import analysis_case
+from test_causal_oracle import oracle_minimal_valid_sets as brute_force_minimal_sets
+from test_causal_oracle import oracle_valid as brute_force_valid
 
+from linter.causal import is_hidden
 from linter.cli import main
+from linter.config import Settings
 from linter.engine import lint_source
+from linter.rules import VALIDITY_RULES
+from linter.verdict import Verdict
 
 WELLNESS = """\
 title "Wellness programme and sick days"
@@ -624,3 +634,120 @@ def test_base_main_is_the_merge_base_on_a_branch_behind_main(history, capsys):
     # the tip of main would have shown the branch deleting soil.dag and un-renaming heat
     done = git(repo, "diff", "--name-status", "main", "HEAD")
     assert "soil.dag" in done and "heat.dag" in done
+
+
+# --- every command speaks the same verdict -----------------------------------------------
+
+_REPO: dict[str, Path] = {}
+
+
+def _shared_repo() -> Path:
+    """One repository for all examples (git is the slow part); each example commits
+    a base and a head and compares the two commits."""
+    if "repo" not in _REPO:
+        import tempfile
+
+        repo = Path(tempfile.mkdtemp(prefix="dagward-diff-prop-"))
+        git(repo, "init", "-q", "-b", "main")
+        _REPO["repo"] = repo
+    return _REPO["repo"]
+
+
+@st.composite
+def changed_case(draw):
+    """A random analysis (tests/test_causal_oracle.py) and one random change to it,
+    drawn from every change possible: an arrow added, removed or reversed (kept
+    acyclic), a `<->` removed, a variable put into or out of `adjust:`, or made
+    unmeasured or measured."""
+    case = draw(analysis_case(max_nodes=7))
+    G = case.G.copy()
+    names, measured, Z = case.observed, set(case.measured), set(case.Z)
+    edges = sorted((a, b) for a, b in G.edges if not is_hidden(G, a))
+    changes = [("add", a, b) for i, a in enumerate(names) for b in names[i + 1 :]
+               if not G.has_edge(a, b)]  # fmt: skip
+    changes += [("remove", a, b) for a, b in edges] + [("reverse", a, b) for a, b in edges]
+    changes += [("unhide", h, None) for h in sorted(n for n in G if is_hidden(G, n))]
+    changes += [("adjust", v, None) for v in sorted(set(names) - case.X - case.Y)]
+    changes += [("measure", v, None) for v in names]
+    kind, a, b = draw(st.sampled_from(changes))
+    if kind == "add":
+        G.add_edge(a, b)  # index order stays a topological order
+    elif kind in ("remove", "reverse"):
+        G.remove_edge(a, b)
+        if kind == "reverse" and not nx.has_path(G, a, b):
+            G.add_edge(b, a)  # no other path a ~> b, so no cycle
+    elif kind == "unhide":
+        G.remove_node(a)
+    elif kind == "adjust":
+        Z ^= {a}
+    else:
+        measured ^= {a}
+    return case, (G, names, frozenset(measured), case.X, case.Y, frozenset(Z))
+
+
+def _check_verdict(text: str):
+    """What `check` says about the analysis: its validity findings."""
+    result = lint_source(text, "q.dag")
+    return result, {f.rule for f in result.findings if f.analysis == "question"}
+
+
+@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(changed_case())
+def test_diff_speaks_the_verdict_of_check_and_the_oracle(example):
+    from linter.diff import diff_revisions
+    from linter.report.diff import to_json
+
+    case, head = example
+    base_text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z)
+    head_text = to_dag_text(*head)
+    repo = _shared_repo()
+    shas = []
+    for text in (base_text, head_text):
+        write(repo, "q.dag", text)
+        git(repo, "add", "q.dag")
+        git(repo, "commit", "-q", "--allow-empty", "-m", "step")
+        shas.append(git(repo, "rev-parse", "HEAD"))
+    doc = to_json(diff_revisions(Settings(), shas[0], shas[1], cwd=repo))
+    if base_text == head_text:
+        assert doc["files"] == []
+        return
+    (f,) = doc["files"]
+    (a,) = f["analyses"]
+    sides = (
+        ("before", base_text, case.G, case.measured, case.Z),
+        ("after", head_text, head[0], head[2], head[5]),
+    )
+    for key, text, G, measured, Z in sides:
+        state = a[key]
+        result, rules = _check_verdict(text)
+        diagram = result.diagram
+        verdict = Verdict(diagram, diagram.analysis("question"))
+        assert state["checked"] is True
+        # the one verdict ...
+        assert state["declared_valid"] is verdict.declared_valid
+        assert state["identifiable"] is verdict.identifiable
+        assert [p["rule"] for p in state["problems"]] == [p.rule for p in verdict.problems]
+        # ... is what `check` says (a declared set is valid exactly when no validity
+        # rule fires; no valid set exists exactly when unmeasured-confounding fires) ...
+        assert state["declared_valid"] is not (rules & VALIDITY_RULES)
+        assert state["identifiable"] is ("unmeasured-confounding" not in rules)
+        assert not {p["rule"] for p in state["problems"]} - VALIDITY_RULES
+        # ... and what the definitions say (brute force over paths and subsets)
+        X, Y = case.X, case.Y
+        valid = Z <= measured and brute_force_valid(G, X, Y, set(Z))
+        assert state["declared_valid"] is valid
+        candidates = set(measured) - X - Y
+        minimal = brute_force_minimal_sets(G, X, Y, candidates)
+        assert state["identifiable"] is bool(minimal)
+        listed = sorted(state["minimal_sets"])
+        if state["truncated"]:
+            assert set(map(tuple, listed)) < {tuple(sorted(m)) for m in minimal}
+        else:
+            assert sorted(sorted(m) for m in minimal) == listed
+    # an analysis is "changed" exactly when a fact of its verdict changed
+    facts = ("declared_valid", "identifiable", "route", "minimal_sets", "smallest",
+             "best_achievable", "declared", "exposure", "outcome")  # fmt: skip
+    same = all(a["before"][k] == a["after"][k] for k in facts) and [
+        (p["rule"], p.get("variable")) for p in a["before"]["problems"] + a["before"]["notes"]
+    ] == [(p["rule"], p.get("variable")) for p in a["after"]["problems"] + a["after"]["notes"]]
+    assert (a["status"] == "unchanged") is same
