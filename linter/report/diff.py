@@ -322,7 +322,7 @@ def sections(f: FileDiff) -> list[tuple[str, list[str], str]]:
         ("now measured", f.now_measured),
     ):
         if names:
-            out.append((heading, [", ".join(f"`{n}`" for n in names)], ""))
+            out.append((heading, [backticked(names)], ""))
     if f.problems_added:
         items = [f"line {p.line}: {p.severity} [{p.rule}] {p.message}" for p in f.problems_added]
         out.append(("new problems", items, ""))
