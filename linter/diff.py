@@ -154,7 +154,7 @@ class AnalysisState:
     truncated: bool = False
     smallest: Names | None = None
     best_achievable: Names | None = None
-    front_door_holds: bool | None = None
+    front_door_holds: bool | None = None  # None: not looked for (a valid set exists)
     front_door: Names | None = field(default=None, compare=False)  # a witness set
     verdict: Verdict | None = field(default=None, compare=False, repr=False)
 
@@ -298,7 +298,9 @@ def analysis_state(side: Side, name: str, max_sets: int) -> AnalysisState:
     verdict = Verdict(diagram, analysis)
     try:
         minimal, truncated = verdict.list_minimal_sets(max_sets)
-        front_door = verdict.front_door
+        # the front door matters for identification only when adjustment fails
+        # (and its search is quadratic on large diagrams): looked for only then
+        front_door = None if verdict.identifiable else verdict.front_door
         return AnalysisState(
             checked=True,
             declared_valid=verdict.declared_valid,
@@ -309,7 +311,7 @@ def analysis_state(side: Side, name: str, max_sets: int) -> AnalysisState:
             truncated=truncated,
             smallest=verdict.smallest,
             best_achievable=verdict.best_achievable,
-            front_door_holds=front_door is not None,
+            front_door_holds=None if verdict.identifiable else front_door is not None,
             front_door=front_door,
             verdict=verdict,
             **roles,
@@ -533,9 +535,11 @@ def _remarks(
         out.append(Remark("adjustment-lost"))
     elif not before.identifiable and after.identifiable:
         out.append(Remark("adjustment-gained"))
-    if not before.front_door_holds and after.front_door_holds:
+    # the route by the front door, when adjustment fails on both sides (a route
+    # gained or lost together with adjustment is said in the remark above)
+    if before.route == "none" and after.route == "front-door":
         out.append(Remark("front-door-gained", after=after.front_door))
-    elif before.front_door_holds and not after.front_door_holds:
+    elif before.route == "front-door" and after.route == "none":
         out.append(Remark("front-door-lost", before=before.front_door))
     if (before.minimal_sets, before.truncated) != (after.minimal_sets, after.truncated):
         if before.identifiable and after.identifiable:  # else the route remark says it

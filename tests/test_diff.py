@@ -572,8 +572,8 @@ def test_json_and_text_speak_the_same_verdict(tmp_path, capsys):
     )
     assert a["remarks"][0] == (
         "no valid adjustment set exists any more among the measured variables: the effect is "
-        "no longer identifiable by covariate adjustment; the front-door criterion still holds "
-        "(for {steps}), so the effect stays identified that way"
+        "no longer identifiable by covariate adjustment; the front-door criterion holds for "
+        "{steps}, so the effect is still identified that way"
     )
     assert (
         "    identification: by adjustment -> by the front-door criterion only (for {steps})"

@@ -57,7 +57,7 @@ JSON shape (`--format json`; header from :mod:`linter.report.json_report`)::
              "notes": [...],                             # Verdict.notes (not reasons)
              "minimal_sets": [["age", "fitness_base"]], "truncated": false,
              "smallest": [...] | null, "best_achievable": [...] | null,
-             "front_door": [...] | null}
+             "front_door": [...] | null}    # looked for only when no valid set exists
 
 Names inside a set are sorted; sets are sorted by size, then by name.
 """
@@ -154,7 +154,7 @@ def _why(r: Reason, s: AnalysisState, f: FileDiff, new_arrows) -> str:
 
 def remark_text(m: Remark, a: AnalysisDiff, f: FileDiff) -> str:
     """One remark of an analysis in a sentence a reviewer can act on."""
-    b, n = a.before, a.after
+    n = a.after
     k = m.kind
     if k == "unparsed":
         return f"the {m.role} version does not parse, so there is nothing to compare with"
@@ -182,30 +182,26 @@ def remark_text(m: Remark, a: AnalysisDiff, f: FileDiff) -> str:
             "no valid adjustment set exists any more among the measured variables: "
             "the effect is no longer identifiable by covariate adjustment"
         )
-        if n.front_door_holds and b is not None and b.front_door_holds:
+        if n.route == "front-door":
             text += (
-                f"; the front-door criterion still holds (for {format_set(n.front_door)}), "
-                "so the effect stays identified that way"
+                f"; the front-door criterion holds for {format_set(n.front_door)}, "
+                "so the effect is still identified that way"
             )
         return text
     if k == "adjustment-gained":
         return "a valid adjustment set now exists among the measured variables"
     if k == "front-door-gained":
-        tail = (
-            ": the effect is identified through it although no valid adjustment set exists"
-            if not n.identifiable
-            else ""
-        )
         door = format_set(cast(Names, m.after))
-        return f"the front-door criterion now holds (for {door}){tail}"
-    if k == "front-door-lost":
-        tail = (
-            ": the effect is now identified neither by adjustment nor by the front-door criterion"
-            if not n.identifiable
-            else ""
+        return (
+            f"the front-door criterion now holds (for {door}): the effect is identified "
+            "through it although no valid adjustment set exists"
         )
+    if k == "front-door-lost":
         door = format_set(cast(Names, m.before))
-        return f"the front-door criterion no longer holds (it held for {door}){tail}"
+        return (
+            f"the front-door criterion no longer holds (it held for {door}): the effect is "
+            "now identified neither by adjustment nor by the front-door criterion"
+        )
     if k == "minimal-sets-changed":
         old, new = m.before, m.after
         assert isinstance(old, AnalysisState) and isinstance(new, AnalysisState)
