@@ -495,7 +495,7 @@ def test_shifted_lines_alone_change_no_analysis(tmp_path, capsys):
     (a,) = f["analyses"]
     assert a["status"] == "unchanged" and a["remarks"] == []
     assert a["before"]["declared_valid"] is a["after"]["declared_valid"] is False
-    assert "  analysis total_effect: unchanged (not valid (open-biasing-path))" in (
+    assert "  analysis total_effect: unchanged; declared set: not valid (open-biasing-path)" in (
         two_file_text(tmp_path, capsys)
     )
 

@@ -17,7 +17,8 @@ HELP = (
     "removed, and per analysis the declared set's verdict, the minimal adjustment sets "
     "and the implied independencies before and after. Compares the merge base of HEAD "
     "with the default branch (origin/HEAD, main or master) against the working tree, or "
-    "the merge base of --base and --head with --head, or two files: "
+    "with --base REV the merge base of REV and HEAD (or --head) against the working tree "
+    "(or --head); the first line names the commit compared. Or two files: "
     "`dagward diff OLD.dag NEW.dag`. "
     "Always exits 0 unless the input cannot be read (2)."
 )

@@ -367,7 +367,9 @@ def render_text(report: DiffReport) -> str:
         for a in f.analyses:
             if a.status == "unchanged":
                 assert a.after is not None
-                lines.append(f"  analysis {a.name}: unchanged ({verdict_text(a.after)})")
+                lines.append(
+                    f"  analysis {a.name}: unchanged; declared set: {verdict_text(a.after)}"
+                )
                 continue
             lines.append(f"  analysis {a.name} ({a.status}):")
             lines.extend(f"    ! {r}" for r in remarks(a, f))
@@ -441,11 +443,17 @@ def mermaid_section(f: FileDiff) -> list[str]:
         "```",
         "",
     ]
-    what = "new or reversed" if f.arrows_reversed else "new"
-    legend = f"Thick orange links are {what} in this change"
-    legend += "; dashed links with two heads are shared hidden causes (`<->`)"
-    legend += "; dashed boxes are unmeasured variables."
-    out.append(legend)
+    legend = []  # only what the picture shows
+    if marked:
+        what = "new or reversed" if f.arrows_reversed else "new"
+        legend.append(f"thick orange links are {what} in this change")
+    if any(a.bidirected for a in diagram.arrows):
+        legend.append("dashed links with two heads are shared hidden causes (`<->`)")
+    if diagram.unmeasured:
+        legend.append("dashed boxes are unmeasured variables")
+    if legend:
+        text = "; ".join(legend)
+        out.append(text[0].upper() + text[1:] + ".")
     if f.arrows_removed:
         removed = ", ".join(f"`{arrow_key_text(a.key)}`" for a in f.arrows_removed)
         out.append(f"Removed (not drawn): {removed}.")
