@@ -15,6 +15,7 @@ import json
 import os
 import re
 import subprocess
+from dataclasses import replace
 from itertools import combinations
 from pathlib import Path
 
@@ -660,6 +661,11 @@ def changed_case(draw):
     acyclic), a `<->` removed, a variable put into or out of `adjust:`, or made
     unmeasured or measured."""
     case = draw(analysis_case(max_nodes=7))
+    if draw(st.booleans()):
+        # half the time a valid declared set, so that changes can break it
+        valid = brute_force_minimal_sets(case.G, case.X, case.Y, case.measured - case.X - case.Y)
+        if valid:
+            case = replace(case, Z=frozenset(draw(st.sampled_from(valid))))
     G = case.G.copy()
     names, measured, Z = case.observed, set(case.measured), set(case.Z)
     edges = sorted((a, b) for a, b in G.edges if not is_hidden(G, a))
@@ -669,7 +675,13 @@ def changed_case(draw):
     changes += [("unhide", h, None) for h in sorted(n for n in G if is_hidden(G, n))]
     changes += [("adjust", v, None) for v in sorted(set(names) - case.X - case.Y)]
     changes += [("measure", v, None) for v in names]
-    kind, a, b = draw(st.sampled_from(changes))
+    by_kind: dict[str, list] = {}
+    for change in changes:
+        by_kind.setdefault(change[0], []).append(change)
+    if Z:  # an adjusted variable turns out not to be measured after all
+        by_kind["hide-adjusted"] = [("measure", v, None) for v in sorted(Z)]
+    # each kind as likely as the others, whatever their numbers
+    kind, a, b = draw(st.sampled_from(by_kind[draw(st.sampled_from(sorted(by_kind)))]))
     if kind == "add":
         G.add_edge(a, b)  # index order stays a topological order
     elif kind in ("remove", "reverse"):
