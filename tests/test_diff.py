@@ -7,6 +7,11 @@ VanderWeele & Robins 2010, "On the validity of covariate adjustment for estimati
 causal effects", UAI; Perkovic, Textor, Kalisch & Maathuis 2018, JMLR 18(220),
 Definition of forb and the proper back-door graph) and brute force over subsets
 for inclusion-minimal sets. The diagrams are invented (staff wellness programme).
+
+The property test at the end commits random diagrams and random changes to a git
+repository and holds the diff JSON to three judges at once: the verdict object,
+`check`'s findings, and the path-enumerating oracle of tests/test_causal_oracle.py
+(same definitions, written independently of the code under test).
 """
 
 from __future__ import annotations
@@ -763,3 +768,15 @@ def test_diff_speaks_the_verdict_of_check_and_the_oracle(example):
         (p["rule"], p.get("variable")) for p in a["before"]["problems"] + a["before"]["notes"]
     ] == [(p["rule"], p.get("variable")) for p in a["after"]["problems"] + a["after"]["notes"]]
     assert (a["status"] == "unchanged") is same
+
+
+def test_base_without_common_history_is_compared_at_its_tip(history, capsys):
+    repo, shas = history
+    git(repo, "checkout", "-q", "--orphan", "fresh")
+    git(repo, "rm", "-q", "-r", "--cached", ".")
+    write(repo, "wellness.dag", WELLNESS)
+    git(repo, "add", "wellness.dag")
+    git(repo, "commit", "-q", "-m", "a fresh start")
+    doc = run_json(capsys, "--base", "main", "--head", "HEAD")
+    assert doc["base_commit"] == shas["c5"]
+    assert doc["base"] == f"main ({shas['c5'][:7]}; no common history with HEAD)"
