@@ -2,7 +2,7 @@
 
 The Python API, for an analysis project's own tests::
 
-    from linter import load_diagram, check_covariates
+    from dagward import load_diagram, check_covariates
 
     diagram = load_diagram("causal/wellness.dag")   # raises DiagramError with findings
     diagram.d_separated({"age"}, {"motivation"}, given=set())

@@ -1,4 +1,4 @@
-"""`python -m linter` runs the dagward command line."""
+"""`python -m dagward` runs the dagward command line."""
 
 from .cli import run
 

@@ -15,16 +15,16 @@ import sys
 from .version import __version__
 
 COMMANDS: dict[str, tuple[str, str]] = {
-    "check": ("linter.commands.check", "lint diagram files (the pre-commit and CI entry point)"),
-    "adjustment": ("linter.commands.adjustment", "valid and minimal adjustment sets per analysis"),
+    "check": ("dagward.commands.check", "lint diagram files (the pre-commit and CI entry point)"),
+    "adjustment": ("dagward.commands.adjustment", "valid and minimal adjustment sets per analysis"),
     "independencies": (
-        "linter.commands.independencies",
+        "dagward.commands.independencies",
         "independencies the diagram implies, optionally tested against data",
     ),
-    "paths": ("linter.commands.paths", "every path between exposure and outcome, and its status"),
-    "diff": ("linter.commands.diff", "what a change to the diagrams means, between git revisions"),
-    "render": ("linter.commands.render", "draw a diagram (.dot, .mmd, .svg, .png)"),
-    "fmt": ("linter.commands.fmt", "rewrite diagram files in the canonical layout"),
+    "paths": ("dagward.commands.paths", "every path between exposure and outcome, and its status"),
+    "diff": ("dagward.commands.diff", "what a change to the diagrams means, between git revisions"),
+    "render": ("dagward.commands.render", "draw a diagram (.dot, .mmd, .svg, .png)"),
+    "fmt": ("dagward.commands.fmt", "rewrite diagram files in the canonical layout"),
 }
 
 

@@ -1,10 +1,10 @@
 """The bridge between diagrams and data: options, loading a CSV, running the tests.
 
-The statistics themselves live in `linter.stats` (partial correlation with
+The statistics themselves live in `dagward.stats` (partial correlation with
 Fisher's z, its rank version, the stratified G-test, Holm's adjustment). This
 module decides *what* is tested -- one implied independence per non-adjacent
 measured pair, with a minimal separating set of measured variables (see
-`linter.causal.implied_independencies`) -- and turns statistics errors into
+`dagward.causal.implied_independencies`) -- and turns statistics errors into
 `UsageProblem`s so that the command line exits 2 with one line.
 
 numpy, scipy and pandas are imported only inside the functions that need them,
@@ -53,7 +53,7 @@ class DataOptions:
 
 
 def load_data(path: str) -> Table:
-    """Read a CSV file into a `linter.stats.Table`; any problem is a `UsageProblem`."""
+    """Read a CSV file into a `dagward.stats.Table`; any problem is a `UsageProblem`."""
     from .stats import StatsError, load_table
 
     try:

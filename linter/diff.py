@@ -1,17 +1,17 @@
 """What a change to the diagrams means: the comparison behind `dagward diff`.
 
 Two sides are compared file by file: two git revisions (read through
-:mod:`linter.gitrev`) or two files given directly. For each file: the arrows,
+:mod:`dagward.gitrev`) or two files given directly. For each file: the arrows,
 variables and roles added, removed or reversed; per analysis, the facts of its
-:class:`linter.verdict.Verdict` before and after (declared set valid or not, the
+:class:`dagward.verdict.Verdict` before and after (declared set valid or not, the
 reasons as structured problems, the minimal sets, the smallest set, whether a
 valid set exists, the best achievable set, whether the front-door criterion
 holds); and the conditional independencies the diagram implies among measured
 variables (per file: they depend on the diagram, not on the analysis).
 
 This module judges nothing itself -- the verdict is the only judge -- and words
-nothing: the renderers in :mod:`linter.report.diff` word the structured
-:class:`Remark` records through :mod:`linter.wording`.
+nothing: the renderers in :mod:`dagward.report.diff` word the structured
+:class:`Remark` records through :mod:`dagward.wording`.
 
 An analysis is "changed" exactly when one of those facts or one of its roles
 changed. Witnesses (which open path a problem shows, which front-door set is

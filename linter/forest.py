@@ -16,7 +16,7 @@ from typing import TYPE_CHECKING
 from xml.sax.saxutils import escape, quoteattr
 
 if TYPE_CHECKING:
-    from linter.stats import TestResult
+    from dagward.stats import TestResult
 
 ROW_HEIGHT = 22
 LABEL_WIDTH = 300

@@ -302,7 +302,7 @@ class Diagram:
     def graph(self) -> nx.DiGraph:
         """The causal graph: variables and arrows, each `A <-> B` as a hidden parent.
 
-        Hidden parents are named by `linter.causal.graph.hidden_node_name` (a name no
+        Hidden parents are named by `dagward.causal.graph.hidden_node_name` (a name no
         variable can have) and carry the node attribute `hidden=True`.  The graph is
         frozen (`networkx.freeze`), so the causal searches may keep an index of it;
         copy it to edit.

@@ -25,7 +25,7 @@ for the features present.
 
 Open non-causal paths: for diagrams of up to `ENUMERATE_MAX_VARIABLES`
 variables the proper paths from exposure to outcome are listed (at most
-`PATH_LIMIT`, by `linter.causal.enumerate_paths`) and each is classified with
+`PATH_LIMIT`, by `dagward.causal.enumerate_paths`) and each is classified with
 `describe_path`. When the listing is cut, or the diagram is larger, witness
 paths are added: `open_noncausal_path` is asked repeatedly, each time with the
 last arrow of the previous witness removed (removing arrows never opens a path,

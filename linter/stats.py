@@ -944,7 +944,7 @@ def write_atomic(path: str | Path, text: str) -> None:
 
 def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
                     min_effect: float | None = None) -> str:
-    """An SVG forest plot of the results; see :mod:`linter.forest`."""
-    from linter.forest import forest_plot_svg as draw
+    """An SVG forest plot of the results; see :mod:`dagward.forest`."""
+    from dagward.forest import forest_plot_svg as draw
 
     return draw(results, title, min_effect=min_effect)

@@ -49,7 +49,7 @@ class SyntaxProblem(Exception):
 def grammar_text() -> str:
     """The grammar, from the installed package or, in a source checkout, from grammar/."""
     try:
-        return resources.files("linter.grammar").joinpath("diagram.lark").read_text("utf-8")
+        return resources.files("dagward.grammar").joinpath("diagram.lark").read_text("utf-8")
     except (ModuleNotFoundError, FileNotFoundError, OSError):
         here = Path(__file__).resolve().parent.parent / "grammar" / "diagram.lark"
         return here.read_text("utf-8")

@@ -13,12 +13,12 @@ own. A verdict answers, as structured data:
 * notes that do not bear on validity (an instrument-like adjusted variable, no
   causal path at all).
 
-Wording is built from these records in :mod:`linter.wording`; nothing here
+Wording is built from these records in :mod:`dagward.wording`; nothing here
 writes a sentence. Everything is computed lazily, so ``check`` on a valid
 analysis pays for one linear validity test and no more.
 
 Definitions (adjustment criterion; Shpitser, VanderWeele & Robins 2010;
-Perkovic et al. 2018) are those of :mod:`linter.causal.adjustment`.
+Perkovic et al. 2018) are those of :mod:`dagward.causal.adjustment`.
 """
 
 from __future__ import annotations
@@ -31,7 +31,7 @@ from .causal import (
     adjustment_exists,
     canonical_adjustment,
     collider_bias_paths,
-    confounding_path,
+    fixable_confounding_path,
     forbidden,
     front_door_set,
     instrument_conditions,
@@ -62,7 +62,7 @@ class Problem:
     """One reason a declared set is not valid, or one note about it.
 
     ``path`` lists graph nodes from an exposure to an outcome (hidden `<->`
-    parents included; :mod:`linter.wording` spells them).
+    parents included; :mod:`dagward.wording` spells them).
     """
 
     rule: str
@@ -263,26 +263,11 @@ class Verdict:
         return colliders, self._confounding_with_fixable(Z)
 
     def _confounding_with_fixable(self, Z: frozenset[str]) -> tuple[str, ...] | None:
-        """A collider-free open path with a fixable variable (sound; large diagrams).
-
-        A collider-free path is open exactly when none of its variables is
-        adjusted, so a path found with extra variables treated as adjusted is
-        genuine. When a path has no fixable variable, its variables are treated
-        as adjusted and the search runs again, a bounded number of rounds.
-        """
-        G, X, Y = self.graph, self.exposure, self.outcome
-        walls = set(Z)
-        for _ in range(FIXABLE_ROUNDS):
-            path = confounding_path(G, X, Y, walls)
-            if path is None:
-                return None
-            inner = path[1:-1]
-            if any(v in self.fixable for v in inner):
-                return tuple(path)
-            if not inner:
-                return None
-            walls |= set(inner)
-        return None
+        """A collider-free open path with a fixable variable (sound; large diagrams)."""
+        path = fixable_confounding_path(
+            self.graph, self.exposure, self.outcome, Z, self.fixable, FIXABLE_ROUNDS
+        )
+        return None if path is None else tuple(path)
 
     def _fallback_problems(self, Z: frozenset[str]) -> list[Problem]:
         """The exact open-path witness, when the searches above named nothing.

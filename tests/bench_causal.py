@@ -1,4 +1,4 @@
-"""Benchmark of linter.causal (run: python tests/bench_causal.py). Prints figures; asserts nothing.
+"""Benchmark of dagward.causal (run: python tests/bench_causal.py). Prints figures; asserts nothing.
 
 Scaling of d-separation is judged two ways.  Random queries usually stop at
 the first open path, after exploring a share of the graph that differs between
@@ -9,7 +9,7 @@ only after the whole search) and (b) time per Bayes-ball state visited, with
 the states counted by the same moves as ``d_separated``.
 
 The graphs are frozen, as the model freezes every diagram's graph, so the
-searches reuse one integer index per graph (linter.causal.indexed); building
+searches reuse one integer index per graph (dagward.causal.indexed); building
 that index is timed on its own row, and a first query on a graph not yet
 indexed pays it once.
 """
@@ -24,10 +24,8 @@ import time
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
 
 import networkx as nx  # noqa: E402
-
-from linter.causal import d_separated, minimal_adjustment_sets  # noqa: E402
-from linter.causal.indexed import Indexed  # noqa: E402
-
+from dagward.causal import d_separated, minimal_adjustment_sets  # noqa: E402
+from dagward.causal.indexed import Indexed  # noqa: E402
 
 PROBE = "probe_without_arrows"
 

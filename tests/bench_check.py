@@ -25,9 +25,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
-from linter.config import Settings  # noqa: E402
-from linter.engine import lint_source  # noqa: E402
-from linter.syntax import parse_source  # noqa: E402
+from dagward.config import Settings  # noqa: E402
+from dagward.engine import lint_source  # noqa: E402
+from dagward.syntax import parse_source  # noqa: E402
 
 
 def hundred_thousand_lines(seed: int = 1) -> str:
@@ -73,8 +73,7 @@ def large_diagram(n_vars: int, n_arrows: int, seed: int = 3) -> str:
     instrument-like parent of the exposure to a valid set, and one whose declared
     set (three arbitrary earlier variables) leaves paths open."""
     import networkx as nx
-
-    from linter.causal import smallest_adjustment_set
+    from dagward.causal import smallest_adjustment_set
 
     rng = random.Random(seed)
     seen: set[tuple[int, int]] = set()
@@ -120,7 +119,7 @@ def main() -> None:
         tmpdir = Path(tmp)
         sample = ROOT / "samples" / "wellness.dag"
         base = command_time([sys.executable, "-c", "import networkx, lark"], repeat, tmpdir)
-        ours = command_time([sys.executable, "-m", "linter", "check", str(sample)], repeat, tmpdir)
+        ours = command_time([sys.executable, "-m", "dagward", "check", str(sample)], repeat, tmpdir)
         rows.append(('python -c "import networkx, lark"', f"{base * 1000:.0f} ms", "", "", ""))
         rows.append((f"dagward check {sample.name} ({sample.read_text().count(chr(10))} lines)",
                      f"{ours * 1000:.0f} ms", f"{ours / base:.2f}x the imports", "<= 1.5x",
@@ -130,7 +129,7 @@ def main() -> None:
         path = tmpdir / "huge.dag"
         path.write_text(big)
         t = time.perf_counter()
-        run = subprocess.run([sys.executable, "-m", "linter", "check", str(path)], cwd=tmpdir,
+        run = subprocess.run([sys.executable, "-m", "dagward", "check", str(path)], cwd=tmpdir,
                              env={**os.environ, "PYTHONPATH": str(ROOT)}, capture_output=True,
                              text=True)  # fmt: skip
         t_big = time.perf_counter() - t

@@ -23,8 +23,8 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
-from linter.stats import Independence, load_table, simulate_linear_gaussian  # noqa: E402
-from linter.stats import test_independencies as run_tests  # noqa: E402
+from dagward.stats import Independence, load_table, simulate_linear_gaussian  # noqa: E402
+from dagward.stats import test_independencies as run_tests  # noqa: E402
 
 TARGET_SECONDS = 20.0
 VARIABLES = 20

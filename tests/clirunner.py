@@ -23,7 +23,7 @@ def dagward(*args: str, cwd: str | Path | None = None, env: dict | None = None,
     full_env = {**os.environ, "PYTHONPATH": str(ROOT), **(env or {})}
     full_env.pop("DAGWARD_DEBUG", None)
     proc = subprocess.run(
-        [sys.executable, "-m", "linter", *args],
+        [sys.executable, "-m", "dagward", *args],
         cwd=cwd or ROOT,
         env=full_env,
         input=stdin,

@@ -11,8 +11,8 @@ from __future__ import annotations
 from collections import Counter
 from pathlib import Path
 
-from linter.config import Settings
-from linter.syntax import parse_source
+from dagward.config import Settings
+from dagward.syntax import parse_source
 
 EXPECT = "expect:"
 EXPECT_NEXT = "expect-next-line:"

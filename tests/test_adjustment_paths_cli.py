@@ -1,5 +1,5 @@
 """`dagward adjustment` and `dagward paths` end to end, checked against the
-brute-force oracle of test_causal_oracle.py (definitions, every path enumerated)."""
+brute-force oracle of tests/helpers/oracle.py (definitions, every path enumerated)."""
 
 from __future__ import annotations
 
@@ -7,16 +7,15 @@ import json
 import random
 
 from clirunner import ROOT, dagward
-from test_causal_oracle import blocked, causal, oracle_minimal_valid_sets, oracle_valid
-
-from linter.engine import read_and_lint
+from dagward.engine import read_and_lint
+from helpers.oracle import blocked, causal, oracle_minimal_valid_sets, oracle_valid
 
 KEYS = ["name", "exposure", "outcome", "declared", "declared_valid", "identifiable",
         "minimal_sets", "smallest", "truncated", "best_achievable", "front_door", "problems", "notes"]  # fmt: skip
 
 
 def _diagram(path):
-    return read_and_lint(str(ROOT / path), __import__("linter.config").config.Settings()).diagram
+    return read_and_lint(str(ROOT / path), __import__("dagward.config").config.Settings()).diagram
 
 
 def test_adjustment_json_matches_the_oracle_on_every_sample():

@@ -6,10 +6,9 @@ from pathlib import Path
 
 import networkx as nx
 import pytest
-from test_causal_oracle import oracle_valid
-
-from linter import DiagramError, check_covariates, load_diagram
-from linter.api import VALIDITY_RULES
+from dagward import DiagramError, check_covariates, load_diagram
+from dagward.api import VALIDITY_RULES
+from helpers.oracle import oracle_valid
 
 ROOT = Path(__file__).resolve().parent.parent
 WELLNESS = ROOT / "samples" / "wellness.dag"

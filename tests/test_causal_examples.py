@@ -8,8 +8,7 @@ from __future__ import annotations
 import random
 
 import networkx as nx
-
-from linter.causal import (
+from dagward.causal import (
     adjustment_exists,
     canonical_adjustment,
     collider_bias_path,
@@ -30,7 +29,7 @@ from linter.causal import (
     proper_causal_nodes,
     smallest_adjustment_set,
 )
-from linter.causal.paths import REASON_COLLIDER, REASON_NONCOLLIDER
+from dagward.causal.paths import REASON_COLLIDER, REASON_NONCOLLIDER
 
 
 def dag(*edges: str, bidirected: tuple[tuple[str, str], ...] = ()) -> nx.DiGraph:

@@ -1,8 +1,8 @@
-"""Property tests of linter.causal against networkx and brute-force oracles.
+"""Property tests of dagward.causal against networkx and brute-force oracles.
 
 Random DAGs carry several exposures and outcomes, hidden ``<->`` parents and
 unmeasured variables.  Oracles: ``networkx.is_d_separator`` (networkx 3.6)
-and the path-enumerating definitions in test_causal_oracle.py.
+and the path-enumerating definitions in tests/helpers/oracle.py.
 """
 
 from __future__ import annotations
@@ -11,25 +11,7 @@ import random
 from itertools import combinations
 
 import networkx as nx
-from hypothesis import HealthCheck, given, note, settings
-from hypothesis import strategies as st
-from test_causal_oracle import (
-    analysis_case,
-    blocked,
-    causal,
-    collider_reaching,
-    is_collider,
-    oracle_confounding,
-    oracle_d_separated,
-    oracle_forbidden,
-    oracle_minimal_valid_sets,
-    oracle_open_noncausal,
-    oracle_separable,
-    oracle_valid,
-    random_dag,
-)
-
-from linter.causal import (
+from dagward.causal import (
     adjustment_exists,
     canonical_adjustment,
     collider_bias_path,
@@ -45,12 +27,29 @@ from linter.causal import (
     proper_causal_nodes,
     smallest_adjustment_set,
 )
-from linter.causal.separators import (
+from dagward.causal.separators import (
     _adjustment_problem,
     _numbered,
     _separator_search,
     enumerate_minimal_separators,
 )
+from helpers.oracle import (
+    analysis_case,
+    blocked,
+    causal,
+    collider_reaching,
+    is_collider,
+    oracle_confounding,
+    oracle_d_separated,
+    oracle_forbidden,
+    oracle_minimal_valid_sets,
+    oracle_open_noncausal,
+    oracle_separable,
+    oracle_valid,
+    random_dag,
+)
+from hypothesis import HealthCheck, given, note, settings
+from hypothesis import strategies as st
 
 FAST = settings(max_examples=200, deadline=None, suppress_health_check=list(HealthCheck))
 MANY = settings(max_examples=400, deadline=None, suppress_health_check=list(HealthCheck))
@@ -328,7 +327,7 @@ def test_both_row_layouts_agree_with_networkx():
     """d-separation reads compressed rows on graphs with four or more arrows per
     variable and one array per variable otherwise; both layouts must give the
     rows of the graph and networkx's answers (oracle: networkx.is_d_separator)."""
-    from linter.causal.indexed import indexed
+    from dagward.causal.indexed import indexed
 
     rng = random.Random(7)
     for arrows_per_variable in (1.5, 6):

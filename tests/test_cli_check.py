@@ -115,7 +115,7 @@ def test_colour_on_a_terminal_and_no_color(tmp_path):
         master, slave = pty.openpty()
         env = {**os.environ, "PYTHONPATH": str(ROOT), **env_extra}
         env.pop("NO_COLOR", None) if "NO_COLOR" not in env_extra else None
-        proc = subprocess.run([sys.executable, "-m", "linter", "check", "samples/broken/cycle.dag"],
+        proc = subprocess.run([sys.executable, "-m", "dagward", "check", "samples/broken/cycle.dag"],
                               cwd=ROOT, env=env, stdout=slave, stderr=subprocess.PIPE, timeout=120)  # fmt: skip
         os.close(slave)
         data = b""

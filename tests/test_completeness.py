@@ -5,15 +5,15 @@ for every analysis with a declared set Z and no structure error, Z is a valid
 adjustment set (measured, and meeting the adjustment criterion of Shpitser,
 VanderWeele & Robins 2010 / Perkovic et al. 2018) if and only if none of the six
 validity rules fires. Validity is decided by the brute-force oracle in
-test_causal_oracle.py, written straight from the definitions (every path enumerated).
+tests/helpers/oracle.py, written straight from the definitions (every path enumerated).
 """
 
 from __future__ import annotations
 
+from dagward.causal import is_hidden
+from dagward.engine import lint_source
 from helpers.dag_text import to_dag_text
-from hypothesis import HealthCheck, given, settings
-from hypothesis import strategies as st
-from test_causal_oracle import (
+from helpers.oracle import (
     analysis_case,
     blocked,
     causal,
@@ -21,9 +21,8 @@ from test_causal_oracle import (
     oracle_valid,
     simple_paths,
 )
-
-from linter.causal import is_hidden
-from linter.engine import lint_source
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 VALIDITY_RULES = {
     "adjusted-unmeasured",
@@ -72,7 +71,7 @@ def test_declared_set_valid_iff_no_validity_rule_fires(drawn):
             assert z in Z
     if "unmeasured-confounding" in by_rule:
         # really no valid set among measured variables (brute force over subsets)
-        from test_causal_oracle import oracle_minimal_valid_sets
+        from helpers.oracle import oracle_minimal_valid_sets
 
         candidates = sorted(case.measured - case.X - case.Y)
         assert oracle_minimal_valid_sets(G, set(case.X), set(case.Y), candidates) == []

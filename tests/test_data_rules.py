@@ -7,43 +7,19 @@ from __future__ import annotations
 import json
 import subprocess
 import sys
-import textwrap
 from pathlib import Path
 
 import pytest
 from clirunner import ROOT, dagward
+from dagward.config import Settings
+from dagward.data import table_from_csv_text
+from dagward.engine import lint_source
+from dagward.rules import DATA_RULES
 from expectations import expectations_in
-
-from linter.config import Settings
-from linter.data import DataOptions, table_from_csv_text
-from linter.engine import lint_source
-from linter.rules import DATA_RULES
+from helpers.docblocks import block, data_for
 
 CONSISTENT = "samples/data/wellness_consistent.csv"
 EXTRA_ARROW = "samples/data/wellness_extra_arrow.csv"
-
-
-def block(doc: str, label: str) -> str:
-    """The indented block after `Bad::`, `Good::` or `Data::` (as tests/test_rule_docs.py)."""
-    lines = doc.split("\n")
-    start = lines.index(f"{label}::") + 1
-    out = []
-    for line in lines[start:]:
-        if line and not line.startswith("    "):
-            break
-        out.append(line)
-    return textwrap.dedent("\n".join(out)).strip("\n") + "\n"
-
-
-def data_for(doc: str) -> dict:
-    """Keyword arguments for `lint_source` when the docstring holds a `Data::` table.
-
-    This is the helper tests/test_rule_docs.py needs (see docs/pictures-and-data.md).
-    """
-    if "\nData::\n" not in doc:
-        return {}
-    return {"table": table_from_csv_text(block(doc, "Data"), "data.csv"),
-            "data_options": DataOptions()}  # fmt: skip
 
 
 @pytest.mark.parametrize("rule", DATA_RULES, ids=lambda r: r.name)
@@ -157,7 +133,7 @@ def test_unreadable_data_is_exit_2_with_one_line(tmp_path, content, expected):
 def test_check_without_data_never_imports_the_statistics_stack():
     code = (
         "import sys\n"
-        "from linter.cli import main\n"
+        "from dagward.cli import main\n"
         "main(['check', 'samples/wellness.dag', '-q'])\n"
         "print(sorted(m for m in ('numpy', 'pandas', 'scipy') if m in sys.modules))\n"
     )
@@ -175,7 +151,7 @@ def test_options_are_checked():
 
 
 def test_table_from_text_matches_the_file_loader():
-    from linter.data import load_data
+    from dagward.data import load_data
 
     text = Path(ROOT / CONSISTENT).read_text()
     a, b = table_from_csv_text(text), load_data(str(ROOT / CONSISTENT))

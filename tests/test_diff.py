@@ -10,7 +10,7 @@ for inclusion-minimal sets. The diagrams are invented (staff wellness programme)
 
 The property test at the end commits random diagrams and random changes to a git
 repository and holds the diff JSON to three judges at once: the verdict object,
-`check`'s findings, and the path-enumerating oracle of tests/test_causal_oracle.py
+`check`'s findings, and the path-enumerating oracle of tests/helpers/oracle.py
 (same definitions, written independently of the code under test).
 """
 
@@ -26,19 +26,18 @@ from pathlib import Path
 
 import networkx as nx
 import pytest
+from dagward.causal import is_hidden
+from dagward.cli import main
+from dagward.config import Settings
+from dagward.engine import lint_source
+from dagward.rules import VALIDITY_RULES
+from dagward.verdict import Verdict
 from helpers.dag_text import to_dag_text
+from helpers.oracle import analysis_case
+from helpers.oracle import oracle_minimal_valid_sets as brute_force_minimal_sets
+from helpers.oracle import oracle_valid as brute_force_valid
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-from test_causal_oracle import analysis_case
-from test_causal_oracle import oracle_minimal_valid_sets as brute_force_minimal_sets
-from test_causal_oracle import oracle_valid as brute_force_valid
-
-from linter.causal import is_hidden
-from linter.cli import main
-from linter.config import Settings
-from linter.engine import lint_source
-from linter.rules import VALIDITY_RULES
-from linter.verdict import Verdict
 
 WELLNESS = """\
 title "Wellness programme and sick days"
@@ -361,9 +360,9 @@ def test_markdown_has_mermaid_with_marked_new_arrow(history, capsys):
     assert "### `wellness.dag` (modified)" in md
     mermaid = md.split("```mermaid\n", 1)[1].split("```", 1)[0].splitlines()
     assert "flowchart LR" in mermaid
-    # the one Mermaid writer (linter.render) drew it: same text as `render` of the file
-    from linter.render import picture, to_mermaid
-    from linter.syntax import parse_source
+    # the one Mermaid writer (dagward.render) drew it: same text as `render` of the file
+    from dagward.render import picture, to_mermaid
+    from dagward.syntax import parse_source
 
     diagram, _ = parse_source(WELLNESS_3, "wellness.dag")
     plain = to_mermaid(picture(diagram, None)).splitlines()
@@ -425,7 +424,7 @@ def test_cli_subprocess_exit_code(history):
     repo, shas = history
     env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1]))
     done = subprocess.run(
-        [os.sys.executable, "-m", "linter", "diff", "--base", shas["c1"]],
+        [os.sys.executable, "-m", "dagward", "diff", "--base", shas["c1"]],
         cwd=repo, capture_output=True, text=True, env=env,
     )  # fmt: skip
     assert done.returncode == 0, done.stderr
@@ -436,10 +435,10 @@ def test_cli_subprocess_exit_code(history):
 def test_the_verdicts_path_and_reasons_are_used():
     """The remark spells the path of the verdict's own problem (the one `check` shows)
     and names the new arrow on it; the verdict row lists the verdict's rules."""
-    from linter.diff import Side, compare
-    from linter.report.diff import remarks, verdict_text
-    from linter.verdict import Verdict
-    from linter.wording import spell_path
+    from dagward.diff import Side, compare
+    from dagward.report.diff import remarks, verdict_text
+    from dagward.verdict import Verdict
+    from dagward.wording import spell_path
 
     new_text = WELLNESS + "enrolled <-> sick_days\n"
     old = Side("w.dag", lint_source(WELLNESS, "w.dag"))
@@ -661,7 +660,7 @@ def _shared_repo() -> Path:
 
 @st.composite
 def changed_case(draw):
-    """A random analysis (tests/test_causal_oracle.py) and one random change to it,
+    """A random analysis (tests/helpers/oracle.py) and one random change to it,
     drawn from every change possible: an arrow added, removed or reversed (kept
     acyclic), a `<->` removed, a variable put into or out of `adjust:`, or made
     unmeasured or measured."""
@@ -711,8 +710,8 @@ def _check_verdict(text: str):
 @settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(changed_case())
 def test_diff_speaks_the_verdict_of_check_and_the_oracle(example):
-    from linter.diff import diff_revisions
-    from linter.report.diff import to_json
+    from dagward.diff import diff_revisions
+    from dagward.report.diff import to_json
 
     case, head = example
     base_text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z)

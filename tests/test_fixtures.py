@@ -7,9 +7,8 @@ from collections import Counter
 from pathlib import Path
 
 import pytest
+from dagward.engine import read_and_lint
 from expectations import expectations, settings_for
-
-from linter.engine import read_and_lint
 
 ROOT = Path(__file__).resolve().parent.parent
 FIXTURES = sorted(
@@ -35,7 +34,7 @@ def test_fixture(path: Path):
 
 
 def test_broken_samples_cover_every_structure_rule():
-    from linter.rules import STRUCTURE_RULES
+    from dagward.rules import STRUCTURE_RULES
 
     fired = set()
     for path in (ROOT / "samples" / "broken").glob("*.dag"):

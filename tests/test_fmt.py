@@ -17,12 +17,9 @@ import sys
 from pathlib import Path
 
 import pytest
-from hypothesis import HealthCheck, given, settings
-from hypothesis import strategies as st
-
-from linter.cli import main
-from linter.fmt import format_source
-from linter.model import (
+from dagward.cli import main
+from dagward.fmt import format_source
+from dagward.model import (
     Analysis,
     ArrowStatement,
     LabelStatement,
@@ -30,7 +27,9 @@ from linter.model import (
     TitleStatement,
     UnmeasuredStatement,
 )
-from linter.syntax import parse_source
+from dagward.syntax import parse_source
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 REPO = Path(__file__).resolve().parents[1]
 
@@ -408,7 +407,7 @@ def test_syntax_error_file_is_not_modified(tmp_path, monkeypatch, capsys):
 def test_fmt_never_imports_networkx(tmp_path):
     (tmp_path / "a.dag").write_text(MESSY, "utf-8")
     code = (
-        "import sys\nfrom linter.cli import main\n"
+        "import sys\nfrom dagward.cli import main\n"
         f"rc = main(['fmt', '--check', {str(tmp_path / 'a.dag')!r}])\n"
         "print(rc, 'networkx' in sys.modules)\n"
     )

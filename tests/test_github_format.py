@@ -8,11 +8,11 @@ from __future__ import annotations
 
 import subprocess
 
-from linter.cli import main
-from linter.findings import Finding, Related
-from linter.model import Span
-from linter.report import Report
-from linter.report.github import escape_data, escape_property, render
+from dagward.cli import main
+from dagward.findings import Finding, Related
+from dagward.model import Span
+from dagward.report import Report
+from dagward.report.github import escape_data, escape_property, render
 
 
 def test_escape_data():

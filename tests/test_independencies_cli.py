@@ -22,8 +22,7 @@ import networkx as nx
 import numpy as np
 import pytest
 from clirunner import ROOT, dagward
-
-from linter.syntax import parse_source
+from dagward.syntax import parse_source
 
 SAMPLES = ["wellness", "tree_canopy", "soil_amendment"]
 CONSISTENT = "samples/data/wellness_consistent.csv"

@@ -43,14 +43,21 @@ def test_wheel_install_into_fresh_venv_runs_check_from_another_directory(tmp_pat
     assert "wellness.dag:27:1: warning [unmeasured-confounding]" in run.stdout
     assert run.stdout.strip().endswith("1 error, 1 warning in 2 files")
 
-    # the grammar is inside the installed package, and python -m linter works too
+    # the grammar is inside the installed package, and python -m dagward works too
     probe = subprocess.run(
         [str(py), "-c", "import importlib.resources as r; "
-         "print(r.files('linter.grammar').joinpath('diagram.lark').is_file())"],
+         "print(r.files('dagward.grammar').joinpath('diagram.lark').is_file())"],
         cwd=work, capture_output=True, text=True,
     )  # fmt: skip
     assert probe.stdout.strip() == "True", probe.stderr
-    run = subprocess.run([str(py), "-m", "linter", "check", "wellness.dag"], cwd=work,
+    run = subprocess.run([str(py), "-m", "dagward", "check", "wellness.dag"], cwd=work,
                          capture_output=True, text=True)  # fmt: skip
     assert run.returncode == 0 and "1 warning in 1 file" in run.stdout
-    assert sys.executable  # the test itself ran under the outer interpreter
+    # the import package is `dagward`; no generic `linter` package is installed
+    names = subprocess.run(
+        [str(py), "-c", "import importlib.util as u, dagward, pathlib; "
+         "print(u.find_spec('linter') is None, "
+         "(pathlib.Path(dagward.__file__).parent / 'py.typed').is_file())"],
+        cwd=work, capture_output=True, text=True,
+    )  # fmt: skip
+    assert names.stdout.split() == ["True", "True"], names.stderr

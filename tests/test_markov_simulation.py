@@ -19,10 +19,9 @@ import itertools
 import networkx as nx
 import numpy as np
 import pytest
+from dagward.stats import Independence, Table, simulate_linear_gaussian
+from dagward.stats import test_independencies as run_tests
 from scipy import stats as sps
-
-from linter.stats import Independence, Table, simulate_linear_gaussian
-from linter.stats import test_independencies as run_tests
 
 N_ROWS = 2000
 SEEDS = range(40)

@@ -18,9 +18,8 @@ from pathlib import Path
 import networkx as nx
 import pytest
 from clirunner import ROOT, dagward
-
-from linter.causal.graph import is_hidden
-from linter.syntax import parse_source
+from dagward.causal.graph import is_hidden
+from dagward.syntax import parse_source
 
 SAMPLES = ["wellness", "tree_canopy", "soil_amendment"]
 
@@ -322,8 +321,8 @@ def test_mermaid_bidirected(bidirected):
 
 def test_mermaid_highlighted_arrows(bidirected):
     """`diff` marks arrows by their key; everything else is drawn as `render` draws it."""
-    from linter.model import arrow_key
-    from linter.render import HIGHLIGHT, picture, to_mermaid
+    from dagward.model import arrow_key
+    from dagward.render import HIGHLIGHT, picture, to_mermaid
 
     diagram, problem = parse_source(bidirected.read_bytes(), str(bidirected))
     analysis = diagram.analyses[0]

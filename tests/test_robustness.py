@@ -6,10 +6,9 @@ import random
 import sys
 
 from clirunner import ROOT, dagward
+from dagward.engine import lint_source
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-
-from linter.engine import lint_source
 
 
 def _only(findings, rule):

@@ -5,12 +5,11 @@ line, the good one must not fire it)."""
 from __future__ import annotations
 
 import pytest
+from dagward.config import Settings
+from dagward.engine import lint_source
+from dagward.rules import ALL_RULES
 from expectations import expectations_in
-from test_data_rules import block, data_for
-
-from linter.config import Settings
-from linter.engine import lint_source
-from linter.rules import ALL_RULES
+from helpers.docblocks import block, data_for
 
 
 @pytest.mark.parametrize("rule", ALL_RULES, ids=lambda r: r.name)

@@ -12,12 +12,11 @@ from pathlib import Path
 
 import jsonschema
 import pytest
-
-from linter.cli import main
-from linter.engine import lint_source
-from linter.report import Report
-from linter.report.sarif import log, render
-from linter.rules import ALL_RULES
+from dagward.cli import main
+from dagward.engine import lint_source
+from dagward.report import Report
+from dagward.report.sarif import log, render
+from dagward.rules import ALL_RULES
 
 REPO = Path(__file__).resolve().parents[1]
 SCHEMA_PATH = Path(__file__).resolve().parents[2] / "shared/schemas/sarif-schema-2.1.0.json"
@@ -112,7 +111,7 @@ def test_rule_catalogue_in_driver(validator):
     doc = log(Report([], 0, repository_root=str(REPO)))
     validator.validate(doc)
     driver = doc["runs"][0]["tool"]["driver"]
-    from linter.version import __version__
+    from dagward.version import __version__
 
     assert driver["name"] == "dagward" and driver["version"] == __version__
     assert [r["id"] for r in driver["rules"]] == [r.name for r in ALL_RULES]

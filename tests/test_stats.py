@@ -1,4 +1,4 @@
-"""Tests of linter.stats against independent computations.
+"""Tests of dagward.stats against independent computations.
 
 Every statistic is checked against a computation that does not go through the
 code under test: numpy least squares, scipy.stats (norm, pearsonr, spearmanr,
@@ -18,10 +18,8 @@ from pathlib import Path
 import networkx as nx
 import numpy as np
 import pytest
-from scipy import stats as sps
-
-from linter import stats as S
-from linter.stats import (
+from dagward import stats as S
+from dagward.stats import (
     DataError,
     Independence,
     StatsUnavailable,
@@ -36,9 +34,10 @@ from linter.stats import (
     simulate_linear_gaussian,
     write_atomic,
 )
-from linter.stats import (
+from dagward.stats import (
     test_independencies as run_tests,  # the library's name starts with test_
 )
+from scipy import stats as sps
 
 ROOT = Path(__file__).resolve().parent.parent
 SVG = "{http://www.w3.org/2000/svg}"
@@ -491,7 +490,7 @@ def test_missing_pandas_gives_stats_unavailable(monkeypatch: pytest.MonkeyPatch)
 def test_importing_the_module_loads_no_numeric_library() -> None:
     import subprocess
 
-    code = ("import sys, linter.stats, linter.forest; "
+    code = ("import sys, dagward.stats, dagward.forest; "
             "print(sorted(m for m in ('numpy', 'pandas', 'scipy') if m in sys.modules))")
     out = subprocess.run([sys.executable, "-c", code], cwd=ROOT, capture_output=True,
                          text=True, check=True)

@@ -404,6 +404,125 @@ def confounding_path(
     return shortcut_walk(walk) if walk else None
 
 
+def fixable_confounding_path(
+    G: nx.DiGraph,
+    X: Iterable[str],
+    Y: Iterable[str],
+    Z: Iterable[str],
+    fixable: Iterable[str],
+    rounds: int = 10,
+) -> list[str] | None:
+    """A confounding path (as :func:`confounding_path`) with a variable of ``fixable``
+    among its inner variables, or None.
+
+    Sound, not complete (the exact answer needs a simple path through a chosen
+    vertex; see :mod:`dagward.causal.bounded`): every walk the search accepts is
+    shortcut and kept only when a fixable variable survives; when none does, the
+    inner variables of the first path found are treated as adjusted (a
+    collider-free path is open exactly when none of its variables is adjusted,
+    so what is found then is still open given Z) and the search runs again, at
+    most ``rounds`` times. Linear time per round.
+    """
+    X, Y = _roles(G, X, Y)
+    X, Y, Z = _check_sets(G, X, Y, Z)
+    ix = indexed(G)
+    fixable = set(fixable) & set(ix.index)
+    fix_mask = ix.mask(fixable)
+    index = ix.index
+    x_mask, y_mask = ix.mask(X), ix.mask(Y)
+    # a direct arrow from an outcome has no inner variable: never a root here, so
+    # that it does not claim the outcome's search state before longer paths
+    roots = [r for r in start_roots(ix, ix.ids(X), x_mask) if r[2] == UP and not y_mask[r[1]]]
+    walls = ix.mask(Z)
+    for _ in range(rounds):
+        first: list[list[str]] = []
+
+        def take(walk: list[str]) -> list[str] | None:
+            path = shortcut_walk(walk)
+            if any(fix_mask[index[v]] for v in path[1:-1]):
+                return path
+            if not first:
+                first.append(path)
+            return None
+
+        found = _state_search(ix, roots, walls, bytes(ix.n), ix.mask(Y), x_mask, take=take)
+        if found is not None:
+            return found
+        if not first or len(first[0]) <= 2:
+            return None
+        walls = bytearray(walls)
+        for v in first[0][1:-1]:
+            walls[index[v]] = 1
+    return _through_candidates(G, X, Y, Z, sorted(fixable), rounds)
+
+
+def _directed_chain(G: nx.DiGraph, start: str, targets: set[str], walls: set[str]):
+    """A shortest directed path from start to a target whose other variables avoid walls."""
+    succ = G.succ
+    parent: dict[str, str | None] = {start: None}
+    queue = [start]
+    for v in queue:
+        if v in targets and v != start:
+            path = [v]
+            while parent[path[-1]] is not None:
+                path.append(parent[path[-1]])  # type: ignore[arg-type]
+            return path[::-1]
+        for w in succ[v]:
+            if w not in parent and (w in targets or w not in walls):
+                parent[w] = v
+                queue.append(w)
+    return None
+
+
+def _through_candidates(G, X, Y, Z, candidates, limit):
+    """Paths built through one fixable variable f at a time (at most ``limit``):
+    a directed chain from f to an exposure (f above it) joined to a collider-free
+    route from f to an outcome that avoids the chain, or a directed chain from f
+    to an outcome joined to a route from f back to an exposure entering f from
+    above. Each joined path is simple and collider-free by construction and is
+    re-checked before it is returned."""
+    blocked = set(Z) | set(X)
+    tried = 0
+    for f in candidates:
+        if tried >= limit:
+            break
+        # f on the exposure's side: f -> ... -> x
+        up = _directed_chain(G, f, set(X), set(Z) | set(Y))
+        down = _directed_chain(G, f, set(Y), blocked)
+        if up is None and down is None:
+            continue
+        tried += 1
+        if up is not None:
+            avoid = blocked | set(up[1:])
+            rest = _directed_chain(G, f, set(Y), avoid) or confounding_path(
+                G, {f}, Y, avoid - {f}
+            )
+            if rest is not None:
+                path = up[::-1] + list(rest[1:])
+                if _is_open_confounding(G, path, X, Y, Z):
+                    return path
+        if down is not None:
+            avoid = (set(Z) | set(Y) | set(down[1:])) - {f}
+            back = confounding_path(G, {f}, X, avoid)
+            if back is not None:
+                path = back[::-1] + down[1:]
+                if _is_open_confounding(G, path, X, Y, Z):
+                    return path
+    return None
+
+
+def _is_open_confounding(G, path, X, Y, Z) -> bool:
+    if len(set(path)) != len(path) or path[0] not in X or path[-1] not in Y:
+        return False
+    if any(v in X for v in path[1:]) or any(v in Z for v in path[1:-1]):
+        return False
+    succ = G.succ
+    for i in range(1, len(path) - 1):
+        if path[i] in succ[path[i - 1]] and path[i] in succ[path[i + 1]]:
+            return False
+    return not path_is_causal(G, path)
+
+
 def collider_bias_path(
     G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str], z: str
 ) -> tuple[list[str], str] | None:
@@ -571,6 +690,7 @@ __all__ = [
     "collider_bias_path",
     "collider_bias_paths",
     "confounding_path",
+    "fixable_confounding_path",
     "forbidden",
     "instrument_conditions",
     "instrument_like",

@@ -15,7 +15,7 @@ extending a partial path that is already blocked (a non-collider in Z, or a
 collider with no descendant in Z: the definition of d-separation, Pearl 1988,
 "Probabilistic Reasoning in Intelligent Systems", ch. 3).  The listing stops
 after ``budget`` steps; the caller then falls back on the linear searches of
-:mod:`linter.causal.adjustment`.  The budget is a constant, so the cost in
+:mod:`dagward.causal.adjustment`.  The budget is a constant, so the cost in
 ``check`` stays bounded whatever the diagram: paths are never enumerated
 without a bound.
 

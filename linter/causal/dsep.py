@@ -87,7 +87,7 @@ def _state_search(
     accepted state, or None.  Each state is expanded once, so the cost is
     linear in |V| + |E| times the (constant) number of flag values.
 
-    Flags (used by the typed searches of linter.causal.adjustment; a search
+    Flags (used by the typed searches of dagward.causal.adjustment; a search
     whose roots have flag 0 and no ``colliders`` keeps flag 0 throughout):
     bit 1 "still a directed path from the exposure" is cleared by every move
     against an arrow; bit 2 "turned at a collider in ``colliders``" is set

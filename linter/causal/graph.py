@@ -6,7 +6,7 @@ bidirected edge ``A <-> B`` is represented by a hidden node named
 and B (the usual latent-projection reading of a bidirected edge).
 
 All walks are iterative, because diagrams may hold 100,000 variables, and
-run over the integer index of linter.causal.indexed.
+run over the integer index of dagward.causal.indexed.
 """
 
 from __future__ import annotations

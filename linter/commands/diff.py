@@ -1,4 +1,4 @@
-"""dagward diff: what a change to the diagrams means (see `linter.diff`).
+"""dagward diff: what a change to the diagrams means (see `dagward.diff`).
 
 Exit status: 0 whatever changed (the report is informational; use `check` to
 gate); 2 with a one-line message when the revisions or files cannot be read

@@ -1,4 +1,4 @@
-"""dagward fmt: rewrite diagram files in the canonical layout (see `linter.fmt`).
+"""dagward fmt: rewrite diagram files in the canonical layout (see `dagward.fmt`).
 
 Exit status: 0 when every file is (or now is) formatted; 1 when `--check` finds a
 file that would change, or when a file does not parse (it is reported with

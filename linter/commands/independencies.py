@@ -2,7 +2,7 @@
 
 One statement per pair of measured variables that no arrow (and no `<->`)
 joins and that some set of measured variables d-separates, with an
-inclusion-minimal such set (`linter.causal.implied_independencies`). Text
+inclusion-minimal such set (`dagward.causal.implied_independencies`). Text
 output, one a line:
 
     age ⫫ shift_work
@@ -11,7 +11,7 @@ output, one a line:
 `--ascii` (or a stdout whose encoding cannot write ⫫) prints
 `enrolled indep shift_work given fitness_base` instead.
 
-With `--data FILE.csv` each statement is tested (see `linter.stats`) and a
+With `--data FILE.csv` each statement is tested (see `dagward.stats`) and a
 table is printed: independence, n, statistic, p, Holm p, effect [95% interval],
 verdict (`rejected`, `small` = significant but below --min-effect,
 `consistent`, or `not tested` with the reason). `--plot OUT.svg` writes a

@@ -4,7 +4,7 @@ The output format follows the extension of `-o` (or `--output`); `--format`
 overrides it, and with `--format dot` or `--format mmd` and no `-o` the text is
 printed. `.svg` and `.png` run Graphviz's `dot`; when it is missing the command
 exits 2 and says how to install it. The visual scheme is described in
-`linter.render`. Files are written atomically.
+`dagward.render`. Files are written atomically.
 """
 
 from __future__ import annotations

@@ -13,10 +13,10 @@ from dataclasses import dataclass
 from ..findings import Finding
 
 REPORTERS: dict[str, str] = {
-    "text": "linter.report.text",
-    "json": "linter.report.json_report",
-    "sarif": "linter.report.sarif",
-    "github": "linter.report.github",
+    "text": "dagward.report.text",
+    "json": "dagward.report.json_report",
+    "sarif": "dagward.report.sarif",
+    "github": "dagward.report.github",
 }
 
 

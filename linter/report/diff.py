@@ -1,11 +1,11 @@
 """The reporters of `dagward diff`: text, JSON and Markdown (with a Mermaid picture).
 
-They read a :class:`linter.diff.DiffReport` -- facts taken from the verdicts of
-both sides -- and word it through :mod:`linter.wording`; the picture is drawn by
-:mod:`linter.render`'s one Mermaid writer, with the changed arrows highlighted.
+They read a :class:`dagward.diff.DiffReport` -- facts taken from the verdicts of
+both sides -- and word it through :mod:`dagward.wording`; the picture is drawn by
+:mod:`dagward.render`'s one Mermaid writer, with the changed arrows highlighted.
 Text, Markdown and JSON are built from the same fields, so they cannot disagree.
 
-JSON shape (`--format json`; header from :mod:`linter.report.json_report`)::
+JSON shape (`--format json`; header from :mod:`dagward.report.json_report`)::
 
     {
       "tool": {"name": "dagward", "version": "0.1.0"},

@@ -5,7 +5,7 @@ Version 2.1.0" (2020). The log validates against the official JSON schema
 (tests/test_sarif.py checks every sample and fixture):
 
 * `runs[0].tool.driver`: name, version, `rules` built from the rule catalogue
-  (`linter.rules.ALL_RULES`): id = rule name, short description = summary, full
+  (`dagward.rules.ALL_RULES`): id = rule name, short description = summary, full
   description = the prose of the rule's docstring, help = the whole docstring
   with its bad and good examples (plain text and Markdown), default level and
   whether the rule is on by default;

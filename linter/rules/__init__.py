@@ -24,6 +24,7 @@ from . import (  # data rules (with --data)
     unknown_rule_in_allow,
     unknown_variable,
     unmeasured_confounding,
+    variable_outside_periods,
 )
 from .base import Rule
 
@@ -37,6 +38,7 @@ STRUCTURE_RULES: tuple[Rule, ...] = (
     duplicate_analysis.RULE,
     role_conflict.RULE,
     arrow_against_time.RULE,
+    variable_outside_periods.RULE,
     unknown_rule_in_allow.RULE,
     arrow_without_reason.RULE,
 )

@@ -1,5 +1,5 @@
 """Small helpers shared by the causal rule modules: they turn the verdict's
-problems into findings (the verdict judges, `linter.wording` words)."""
+problems into findings (the verdict judges, `dagward.wording` words)."""
 
 from __future__ import annotations
 

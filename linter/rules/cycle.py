@@ -66,7 +66,7 @@ def check(ctx: Context) -> Iterator[Finding]:
 def _not_topologically_sortable(graph) -> set[str]:
     """The variables Kahn's topological sort cannot remove (Kahn 1962): every cycle
     lies among them. Usually empty, and much cheaper than finding components."""
-    pred, succ = graph._pred, graph._succ
+    pred, succ = graph.pred, graph.succ
     indegree = {v: len(ps) for v, ps in pred.items()}
     ready = [v for v, d in indegree.items() if d == 0]
     while ready:
@@ -86,7 +86,7 @@ def _shortest_return(graph, component: set, start: str, goal: str) -> list[str]:
         node = queue.popleft()
         if node == goal:
             break
-        for nxt in graph._succ[node]:
+        for nxt in graph.succ[node]:
             if nxt in component and nxt not in parent:
                 parent[nxt] = node
                 queue.append(nxt)

@@ -8,6 +8,9 @@ Bad::
     unmeasured grit  # expect: isolated-variable
     age -> sick_days
 
+A misspelt name in a `period` or `unmeasured` list is the usual cause; the
+message then names the variable it probably meant.
+
 Good::
 
     unmeasured grit
@@ -20,6 +23,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
+from ..wording import did_you_mean
 from .base import Context, Rule
 
 
@@ -28,12 +32,15 @@ def check(ctx: Context) -> Iterator[Finding]:
     for arrow in ctx.diagram.arrows:
         connected.add(arrow.source.text)
         connected.add(arrow.target.text)
+    # a variable with arrows and a close spelling is what a misspelt name meant
+    candidates = sorted(connected)
     for name, first in ctx.diagram.variables.items():
         if name not in connected:
             yield ctx.finding(
                 RULE,
                 first.span,
-                f"`{name}` has no arrows: add the arrows that connect it, or remove it",
+                f"`{name}` has no arrows: add the arrows that connect it, or remove it"
+                f"{did_you_mean(name, candidates)}",
             )
 
 

@@ -3,8 +3,7 @@
 from __future__ import annotations
 
 import networkx as nx
-
-from linter.causal import is_hidden
+from dagward.causal import is_hidden
 
 
 def to_dag_text(G: nx.DiGraph, names, measured, X, Y, Z) -> str:
