@@ -16,6 +16,7 @@ who do not tell colours apart -- only one shade of grey is used):
 | arrow on both kinds of path | thick dotted line |
 | `a <-> b` (hidden common cause) | dashed line with a head at both ends; no node |
 | `a <-> b` on an open non-causal path | dotted line with a head at both ends |
+| arrow new or reversed in a `diff` picture (Mermaid) | thick orange line (the one colour) |
 | label | the `label` text, wrapped, with the variable's name in small type beneath |
 | periods | columns left to right in file order, thin solid grey bands headed by name |
 
@@ -60,6 +61,7 @@ ADJUSTED_FILL = "#d4d4d4"
 BAND_COLOR = "#8c8c8c"  # period bands: thin, solid, mid grey (unmeasured is dashed black)
 DEFAULT_FONT = "Helvetica"
 DEFAULT_DPI = 144  # sharp enough for slides and reviews; journals often ask for 300-600
+HIGHLIGHT = "#e8590c"  # the one colour: arrows a caller marks (`diff`: changed arrows)
 
 INSTALL_GRAPHVIZ = (
     "Graphviz's `dot` program is needed for .svg, .png, .pdf and .eps but was not found on "
@@ -105,6 +107,7 @@ class EdgeStyle:
     bidirected: bool = False
     causal: bool = False  # on a proper causal path from the exposure to the outcome
     open_noncausal: bool = False  # on a proper non-causal path open given `adjust:`
+    highlighted: bool = False  # marked by the caller (`diff`: new or reversed arrows)
 
     @property
     def classes(self) -> tuple[str, ...]:
@@ -113,6 +116,8 @@ class EdgeStyle:
             out.append("causal")
         if self.open_noncausal:
             out.append("open-noncausal")
+        if self.highlighted:
+            out.append("highlighted")
         return tuple(out)
 
 
@@ -151,8 +156,13 @@ def choose_analysis(diagram: Diagram, name: str | None) -> tuple[Analysis | None
     return analyses[0], None
 
 
-def picture(diagram: Diagram, analysis: Analysis | None) -> Picture:
-    """Work out the style of every variable and arrow for one analysis (or none)."""
+def picture(
+    diagram: Diagram,
+    analysis: Analysis | None,
+    highlight: frozenset[tuple[str, str, str]] = frozenset(),
+) -> Picture:
+    """Work out the style of every variable and arrow for one analysis (or none);
+    arrows whose `model.arrow_key` is in `highlight` are marked `highlighted`."""
     X = analysis.exposure_set if analysis else frozenset()
     Y = analysis.outcome_set if analysis else frozenset()
     Z = (analysis.adjust_set or frozenset()) if analysis else frozenset()
@@ -202,7 +212,11 @@ def picture(diagram: Diagram, analysis: Analysis | None) -> Picture:
             seen.add(key)
             edges.append(
                 EdgeStyle(
-                    a, b, bidirected=True, open_noncausal=frozenset((a, b)) in open_bidirected
+                    a,
+                    b,
+                    bidirected=True,
+                    open_noncausal=frozenset((a, b)) in open_bidirected,
+                    highlighted=arrow.key in highlight,
                 )
             )
         else:
@@ -216,6 +230,7 @@ def picture(diagram: Diagram, analysis: Analysis | None) -> Picture:
                     b,
                     causal=(a, b) in causal_edges,
                     open_noncausal=(a, b) in open_directed,
+                    highlighted=arrow.key in highlight,
                 )
             )
     periods = tuple(
@@ -483,9 +498,20 @@ def to_mermaid(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
     styles: list[str] = []
     for index, edge in enumerate(pic.edges):
         a, b = ids[edge.source], ids[edge.target]
-        if edge.bidirected:
+        if edge.highlighted and not edge.bidirected:
+            # a thick link in the highlight colour, whatever else it is
+            out.append(f"  {a} ==> {b}")
+            styles.append(f"  linkStyle {index} stroke:{HIGHLIGHT},stroke-width:4px")
+        elif edge.bidirected:
+            # a `<->` keeps its two heads and its dash pattern (as the key says),
+            # thick and in the highlight colour when marked
             out.append(f"  {a} <-.-> {b}")
             dash = "2 4" if edge.open_noncausal else "7 4"
+            if edge.highlighted:
+                styles.append(
+                    f"  linkStyle {index} stroke:{HIGHLIGHT},stroke-width:4px,stroke-dasharray:{dash}"
+                )
+                continue
             width = "2px" if edge.open_noncausal else "1.5px"
             styles.append(f"  linkStyle {index} stroke-dasharray:{dash},stroke-width:{width}")
         elif edge.open_noncausal:

@@ -84,6 +84,21 @@ def arrow_text(source: str, target: str, bidirected: bool) -> str:
     return f"{source} {'<->' if bidirected else '->'} {target}"
 
 
+def arrow_key_text(key: tuple[str, str, str]) -> str:
+    """An arrow from its `model.arrow_key`: `a -> b` or `a <-> b`."""
+    kind, source, target = key
+    return f"{source} {kind} {target}"
+
+
+def format_minimal_sets(sets: Iterable[Iterable[str]], truncated: bool = False) -> str:
+    """Minimal valid sets in a row: `{a}; {b, c}`, `none exists` when there is none,
+    and a mark when the list was cut."""
+    sets = list(sets)
+    if not sets:
+        return "none exists"
+    return format_sets(sets) + ("; ... (more not shown)" if truncated else "")
+
+
 def independence_text(a: str, b: str, given: Iterable[str]) -> str:
     """`a` and `b` are independent given `c` (plain words, no symbol)."""
     given = sorted(given)

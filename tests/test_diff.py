@@ -7,6 +7,11 @@ VanderWeele & Robins 2010, "On the validity of covariate adjustment for estimati
 causal effects", UAI; Perkovic, Textor, Kalisch & Maathuis 2018, JMLR 18(220),
 Definition of forb and the proper back-door graph) and brute force over subsets
 for inclusion-minimal sets. The diagrams are invented (staff wellness programme).
+
+The property test at the end commits random diagrams and random changes to a git
+repository and holds the diff JSON to three judges at once: the verdict object,
+`check`'s findings, and the path-enumerating oracle of tests/helpers/oracle.py
+(same definitions, written independently of the code under test).
 """
 
 from __future__ import annotations
@@ -15,12 +20,24 @@ import json
 import os
 import re
 import subprocess
+from dataclasses import replace
 from itertools import combinations
 from pathlib import Path
 
 import networkx as nx
 import pytest
+from dagward.causal import is_hidden
 from dagward.cli import main
+from dagward.config import Settings
+from dagward.engine import lint_source
+from dagward.rules import VALIDITY_RULES
+from dagward.verdict import Verdict
+from helpers.dag_text import to_dag_text
+from helpers.oracle import analysis_case
+from helpers.oracle import oracle_minimal_valid_sets as brute_force_minimal_sets
+from helpers.oracle import oracle_valid as brute_force_valid
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 WELLNESS = """\
 title "Wellness programme and sick days"
@@ -203,10 +220,13 @@ def test_added_arrow_makes_declared_set_insufficient(history, capsys):
     assert before["minimal_sets"] == oracle_minimal_sets(G1, "enrolled", "sick_days", MEASURED)
     assert after["minimal_sets"] == oracle_minimal_sets(G2, "enrolled", "sick_days", MEASURED)
     assert after["minimal_sets"] == [["age", "fitness_base", "shift_work"]]
-    # the causal rules' own finding comes along, at the `adjust:` key (line 11)
+    # the verdict's reason comes along, worded as `check` words its finding
     (problem,) = after["problems"]
-    assert (problem["rule"], problem["line"]) == ("open-biasing-path", 11)
+    assert problem["rule"] == "open-biasing-path"
     assert problem["path"] == ["enrolled", "shift_work", "sick_days"]
+    assert problem["fixable"] == ["shift_work"]
+    (finding,) = [f for f in lint_source(WELLNESS_2, "w.dag").findings if f.analysis]
+    assert (finding.rule, finding.message) == (problem["rule"], problem["message"])
     assert before["problems"] == []
     assert (
         "this change makes the declared set {age, fitness_base} insufficient: the new arrow "
@@ -339,13 +359,25 @@ def test_markdown_has_mermaid_with_marked_new_arrow(history, capsys):
     assert md.startswith("## Causal diagrams in this change\n")
     assert "### `wellness.dag` (modified)" in md
     mermaid = md.split("```mermaid\n", 1)[1].split("```", 1)[0].splitlines()
-    assert mermaid[0] == "flowchart LR"
-    ids = {line.split("[")[0].strip(): line.split('"')[1] for line in mermaid if '["' in line}
+    assert "flowchart LR" in mermaid
+    # the one Mermaid writer (dagward.render) drew it: same text as `render` of the file
+    from dagward.render import picture, to_mermaid
+    from dagward.syntax import parse_source
+
+    diagram, _ = parse_source(WELLNESS_3, "wellness.dag")
+    plain = to_mermaid(picture(diagram, None)).splitlines()
+    ids = dict(re.findall(r'^  (v\d+)\("([^"]+)"\)$', "\n".join(mermaid), re.M))
     names = {v: k for k, v in ids.items()}
     new_link = f"  {names['shift_work']} ==> {names['sick_days']}"
     assert new_link in mermaid
-    index = [line for line in mermaid if "-->" in line or "==>" in line].index(new_link)
+    links = [line for line in mermaid if re.match(r"^  v\d+ \S+ v\d+$", line)]
+    index = links.index(new_link)
     assert f"  linkStyle {index} stroke:#e8590c,stroke-width:4px" in mermaid
+    # only the new arrow differs from the plain picture
+    assert [x for x in mermaid if x not in plain] == [
+        new_link,
+        f"  linkStyle {index} stroke:#e8590c,stroke-width:4px",
+    ]
     assert f"  {names['age']} --> {names['sick_days']}" in mermaid
     assert not any(f"{names['age']} --> {names['enrolled']}" in line for line in mermaid)
     assert "Thick orange links are new in this change" in md
@@ -400,45 +432,37 @@ def test_cli_subprocess_exit_code(history):
     assert "heat.dag -> models/heat.dag (renamed)" in done.stdout
 
 
-def test_the_causal_rules_path_is_used_when_reported():
-    """When a causal rule reports the open path, the remark spells that path (the one
-    `check` shows), and the rule appears in the verdict."""
-    from dataclasses import replace
-
+def test_the_verdicts_path_and_reasons_are_used():
+    """The remark spells the path of the verdict's own problem (the one `check` shows)
+    and names the new arrow on it; the verdict row lists the verdict's rules."""
     from dagward.diff import Side, compare
-    from dagward.engine import lint_source
-    from dagward.findings import Finding
-    from dagward.model import Span
+    from dagward.report.diff import remarks, verdict_text
+    from dagward.verdict import Verdict
+    from dagward.wording import spell_path
 
-    new_text = WELLNESS_2 + "enrolled <-> sick_days\n"
+    new_text = WELLNESS + "enrolled <-> sick_days\n"
     old = Side("w.dag", lint_source(WELLNESS, "w.dag"))
-    result = lint_source(new_text, "w.dag")
-    rule_finding = Finding(
-        rule="open-biasing-path",
-        severity="error",
-        file="w.dag",
-        span=Span(10, 3, 10, 9),
-        message="the path enrolled <-> sick_days has no adjusted variable",
-        analysis="total_effect",
-        path=("enrolled", "<->", "sick_days"),
-    )
-    new = Side("w.dag", replace(result, findings=[*result.findings, rule_finding]))
+    new = Side("w.dag", lint_source(new_text, "w.dag"))
     f = compare(old, new, "modified")
     (a,) = f.analyses
-    assert a.remarks[0] == (
+    verdict = Verdict(new.diagram, new.diagram.analysis("total_effect"))
+    (problem,) = verdict.problems
+    assert problem.rule == "unmeasured-confounding"
+    assert spell_path(verdict.graph, problem.path) == "enrolled <-> sick_days"
+    words = remarks(a, f)
+    assert words[0] == (
         "this change makes the declared set {age, fitness_base} insufficient: the new arrow "
         "`enrolled <-> sick_days` opens `enrolled <-> sick_days`"
     )
-    reported = [r for r in a.remarks if r.startswith("now reported: ")]
-    assert reported and "open-biasing-path" in reported[0]
-    assert a.after.problems[0].path == ("enrolled", "<->", "sick_days")
-    from dagward.diff import _verdict
-
-    assert _verdict(a.after).startswith("not valid (open-biasing-path")
-    assert sorted(x.describe() for x in f.arrows_added) == [
-        "enrolled <-> sick_days",
-        "shift_work -> sick_days",
-    ]
+    assert "now reported: unmeasured-confounding" in words
+    assert verdict_text(a.after) == "not valid (unmeasured-confounding)"
+    # the check finding says the same thing in the same words
+    (finding,) = [x for x in new.result.findings if x.analysis == "total_effect"]
+    assert (finding.rule, finding.path) == (
+        "unmeasured-confounding",
+        ("enrolled", "<->", "sick_days"),
+    )
+    assert [x.key for x in f.arrows_added] == [("<->", "enrolled", "sick_days")]
 
 
 def test_paths_limit_the_comparison_from_a_subdirectory(history, capsys, monkeypatch):
@@ -451,7 +475,7 @@ def test_paths_limit_the_comparison_from_a_subdirectory(history, capsys, monkeyp
     ]
 
 
-def test_markdown_draws_a_new_hidden_cause_dotted_as_its_legend_says(tmp_path, capsys):
+def test_markdown_draws_a_new_hidden_cause_as_its_legend_says(tmp_path, capsys):
     old, new = tmp_path / "old.dag", tmp_path / "new.dag"
     old.write_text("a -> b\nc -> b\n", "utf-8")
     new.write_text("a -> b\nc -> b\na <-> c\n", "utf-8")
@@ -461,5 +485,312 @@ def test_markdown_draws_a_new_hidden_cause_dotted_as_its_legend_says(tmp_path, c
     links = [line for line in mermaid if re.search(r" (-->|==>|<-\.->|<==>) ", line)]
     assert not any("<==>" in line for line in links)  # not a thick solid line
     (hidden,) = [i for i, line in enumerate(links) if "<-.->" in line]
-    assert f"  linkStyle {hidden} stroke:#e8590c,stroke-width:4px,stroke-dasharray:3 4" in mermaid
-    assert "dotted links with two heads are shared hidden causes" in md
+    # the dash pattern of a `<->` in `render`'s own key, thick and orange as new
+    assert f"  linkStyle {hidden} stroke:#e8590c,stroke-width:4px,stroke-dasharray:7 4" in mermaid
+    assert "dashed links with two heads are shared hidden causes" in md
+
+
+# --- facts, not wording (each failed on the comparison before the verdict) -------------
+
+
+def two_file_json(tmp_path, capsys, old: str, new: str) -> dict:
+    write(tmp_path, "old.dag", old)
+    write(tmp_path, "new.dag", new)
+    code = main(["diff", "--format", "json", str(tmp_path / "old.dag"), str(tmp_path / "new.dag")])
+    out = capsys.readouterr()
+    assert code == 0, out.err
+    (f,) = json.loads(out.out)["files"]
+    return f
+
+
+def two_file_text(tmp_path, capsys) -> list[str]:
+    assert main(["diff", str(tmp_path / "old.dag"), str(tmp_path / "new.dag")]) == 0
+    return capsys.readouterr().out.splitlines()
+
+
+def test_shifted_lines_alone_change_no_analysis(tmp_path, capsys):
+    # the declared set is not valid on both sides; a comment moves every line down,
+    # so only where the finding sits changes -- no fact of the analysis does
+    f = two_file_json(tmp_path, capsys, WELLNESS_2, "# reviewed\n" + WELLNESS_2)
+    (a,) = f["analyses"]
+    assert a["status"] == "unchanged" and a["remarks"] == []
+    assert a["before"]["declared_valid"] is a["after"]["declared_valid"] is False
+    assert "  analysis total_effect: unchanged; declared set: not valid (open-biasing-path)" in (
+        two_file_text(tmp_path, capsys)
+    )
+
+
+def test_reversed_arrow_is_one_reversal(tmp_path, capsys):
+    old = "age -> enrolled\nenrolled -> sick_days\nfitness -> enrolled\nfitness -> sick_days\n"
+    new = old.replace("fitness -> enrolled", "enrolled -> fitness")
+    f = two_file_json(tmp_path, capsys, old, new)
+    assert f["arrows_added"] == [] and f["arrows_removed"] == []
+    assert f["arrows_reversed"] == [
+        {"arrow": "enrolled -> fitness", "was": "fitness -> enrolled", "source": "enrolled",
+         "target": "fitness", "line": 3, "old_line": 3}
+    ]  # fmt: skip
+    text = two_file_text(tmp_path, capsys)
+    assert "  arrows reversed:" in text
+    assert "    ~ `enrolled -> fitness` (line 3), was `fitness -> enrolled` (line 3)" in text
+    assert not any(line.startswith(("    + ", "    - ")) for line in text)
+
+
+# Front door (Pearl 1995, "Causal diagrams for empirical research", Biometrika 82(4),
+# the front-door criterion): a hidden cause of exposure and outcome, the whole
+# effect through a measured mediator. The scenario is invented.
+FRONT_DOOR = """\
+unmeasured motivation
+motivation -> enrolled, sick_days
+enrolled -> steps -> sick_days
+
+analysis total_effect {
+  exposure: enrolled
+  outcome: sick_days
+}
+"""
+
+
+def test_front_door_lost_and_gained_in_words(tmp_path, capsys):
+    direct = FRONT_DOOR + "enrolled -> sick_days\n"  # the mediator no longer carries it all
+    f = two_file_json(tmp_path, capsys, FRONT_DOOR, direct)
+    (a,) = f["analyses"]
+    before, after = a["before"], a["after"]
+    assert (before["identifiable"], before["route"], before["front_door"]) == (
+        False, "front-door", ["steps"]
+    )  # fmt: skip
+    assert (after["identifiable"], after["route"], after["front_door"]) == (False, "none", None)
+    assert a["status"] == "changed"
+    assert a["remarks"] == [
+        "the front-door criterion no longer holds (it held for {steps}): the effect is now "
+        "identified neither by adjustment nor by the front-door criterion"
+    ]
+    text = two_file_text(tmp_path, capsys)
+    assert (
+        "    identification: by the front-door criterion only (for {steps}) -> "
+        "neither by adjustment nor by the front-door criterion"
+    ) in text
+    # and back
+    f = two_file_json(tmp_path, capsys, direct, FRONT_DOOR)
+    (a,) = f["analyses"]
+    assert a["remarks"] == [
+        "the front-door criterion now holds (for {steps}): the effect is identified through "
+        "it although no valid adjustment set exists"
+    ]
+
+
+def test_json_and_text_speak_the_same_verdict(tmp_path, capsys):
+    # no valid adjustment set after the change, but the front door holds: JSON says
+    # identifiable false (by adjustment) and route front-door; the text says exactly that
+    old = FRONT_DOOR.replace("unmeasured motivation\n", "")
+    f = two_file_json(tmp_path, capsys, old, FRONT_DOOR)
+    (a,) = f["analyses"]
+    assert (a["before"]["identifiable"], a["before"]["route"]) == (True, "adjustment")
+    assert (a["after"]["identifiable"], a["after"]["route"]) == (False, "front-door")
+    text = two_file_text(tmp_path, capsys)
+    assert [line.removeprefix("    ! ") for line in text if line.startswith("    ! ")] == (
+        a["remarks"]
+    )
+    assert a["remarks"][0] == (
+        "no valid adjustment set exists any more among the measured variables: the effect is "
+        "no longer identifiable by covariate adjustment; the front-door criterion holds for "
+        "{steps}, so the effect is still identified that way"
+    )
+    assert (
+        "    identification: by adjustment -> by the front-door criterion only (for {steps})"
+        in (text)
+    )
+    assert "    minimal adjustment sets: {motivation} -> none exists" in text
+
+
+def test_an_instrument_is_a_note_not_a_reason(tmp_path, capsys):
+    old = "distance -> enrolled\nenrolled -> sick_days\nage -> enrolled, sick_days\n" + (
+        "analysis total_effect {\n  exposure: enrolled\n  outcome: sick_days\n  adjust: age\n}\n"
+    )
+    new = old.replace("adjust: age", "adjust: age, distance")
+    f = two_file_json(tmp_path, capsys, old, new)
+    (a,) = f["analyses"]
+    after = a["after"]
+    assert after["declared_valid"] is True and after["problems"] == []
+    assert [n["rule"] for n in after["notes"]] == ["instrument-adjusted"]
+    assert "new note: instrument-adjusted for `distance`" in a["remarks"]
+    assert "    verdict: valid -> valid (note: instrument-adjusted)" in two_file_text(
+        tmp_path, capsys
+    )
+    # with an invalid set too, the instrument stays out of the reasons
+    worse = new.replace("adjust: age, distance", "adjust: distance")
+    f = two_file_json(tmp_path, capsys, old, worse)
+    after = f["analyses"][0]["after"]
+    assert after["declared_valid"] is False
+    assert [p["rule"] for p in after["problems"]] == ["open-biasing-path"]
+    assert [n["rule"] for n in after["notes"]] == ["instrument-adjusted"]
+    text = two_file_text(tmp_path, capsys)
+    assert "    verdict: valid -> not valid (open-biasing-path; note: instrument-adjusted)" in text
+
+
+# --- the merge base (on a branch behind main) -------------------------------------------
+
+
+def test_base_main_is_the_merge_base_on_a_branch_behind_main(history, capsys):
+    repo, shas = history
+    # a branch that left main at c3; main went on with c4 (rename) and c5 (delete)
+    git(repo, "checkout", "-q", "-b", "feature", shas["c3"])
+    write(repo, "wellness.dag", WELLNESS_3 + "enrolled <-> sick_days\n")
+    git(repo, "commit", "-q", "-am", "a hidden common cause")
+    feature = git(repo, "rev-parse", "HEAD")
+    label = f"{shas['c3'][:7]} (merge base of HEAD and main; main is at {shas['c5'][:7]})"
+    for head in ([], ["--head", "HEAD"]):
+        doc = run_json(capsys, "--base", "main", *head)
+        # main's own later changes (heat.dag renamed, soil.dag deleted) are not the branch's
+        assert [(f["status"], f["new_path"]) for f in doc["files"]] == [
+            ("modified", "wellness.dag")
+        ]
+        assert doc["base_commit"] == shas["c3"]
+        assert doc["base"] == label
+    assert doc["head_commit"] == feature
+    assert main(["diff", "--base", "main"]) == 0
+    assert capsys.readouterr().out.splitlines()[0] == f"dagward diff: {label} -> working tree"
+    assert main(["diff", "--base", "main", "--format", "markdown"]) == 0
+    assert f"Comparing {label} with working tree." in capsys.readouterr().out
+    # the tip of main would have shown the branch deleting soil.dag and un-renaming heat
+    done = git(repo, "diff", "--name-status", "main", "HEAD")
+    assert "soil.dag" in done and "heat.dag" in done
+
+
+# --- every command speaks the same verdict -----------------------------------------------
+
+_REPO: dict[str, Path] = {}
+
+
+def _shared_repo() -> Path:
+    """One repository for all examples (git is the slow part); each example commits
+    a base and a head and compares the two commits."""
+    if "repo" not in _REPO:
+        import tempfile
+
+        repo = Path(tempfile.mkdtemp(prefix="dagward-diff-prop-"))
+        git(repo, "init", "-q", "-b", "main")
+        _REPO["repo"] = repo
+    return _REPO["repo"]
+
+
+@st.composite
+def changed_case(draw):
+    """A random analysis (tests/helpers/oracle.py) and one random change to it,
+    drawn from every change possible: an arrow added, removed or reversed (kept
+    acyclic), a `<->` removed, a variable put into or out of `adjust:`, or made
+    unmeasured or measured."""
+    case = draw(analysis_case(max_nodes=7))
+    if draw(st.booleans()):
+        # half the time a valid declared set, so that changes can break it
+        valid = brute_force_minimal_sets(case.G, case.X, case.Y, case.measured - case.X - case.Y)
+        if valid:
+            case = replace(case, Z=frozenset(draw(st.sampled_from(valid))))
+    G = case.G.copy()
+    names, measured, Z = case.observed, set(case.measured), set(case.Z)
+    edges = sorted((a, b) for a, b in G.edges if not is_hidden(G, a))
+    changes = [("add", a, b) for i, a in enumerate(names) for b in names[i + 1 :]
+               if not G.has_edge(a, b)]  # fmt: skip
+    changes += [("remove", a, b) for a, b in edges] + [("reverse", a, b) for a, b in edges]
+    changes += [("unhide", h, None) for h in sorted(n for n in G if is_hidden(G, n))]
+    changes += [("adjust", v, None) for v in sorted(set(names) - case.X - case.Y)]
+    changes += [("measure", v, None) for v in names]
+    by_kind: dict[str, list] = {}
+    for change in changes:
+        by_kind.setdefault(change[0], []).append(change)
+    if Z:  # an adjusted variable turns out not to be measured after all
+        by_kind["hide-adjusted"] = [("measure", v, None) for v in sorted(Z)]
+    # each kind as likely as the others, whatever their numbers
+    kind, a, b = draw(st.sampled_from(by_kind[draw(st.sampled_from(sorted(by_kind)))]))
+    if kind == "add":
+        G.add_edge(a, b)  # index order stays a topological order
+    elif kind in ("remove", "reverse"):
+        G.remove_edge(a, b)
+        if kind == "reverse" and not nx.has_path(G, a, b):
+            G.add_edge(b, a)  # no other path a ~> b, so no cycle
+    elif kind == "unhide":
+        G.remove_node(a)
+    elif kind == "adjust":
+        Z ^= {a}
+    else:
+        measured ^= {a}
+    return case, (G, names, frozenset(measured), case.X, case.Y, frozenset(Z))
+
+
+def _check_verdict(text: str):
+    """What `check` says about the analysis: its validity findings."""
+    result = lint_source(text, "q.dag")
+    return result, {f.rule for f in result.findings if f.analysis == "question"}
+
+
+@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(changed_case())
+def test_diff_speaks_the_verdict_of_check_and_the_oracle(example):
+    from dagward.diff import diff_revisions
+    from dagward.report.diff import to_json
+
+    case, head = example
+    base_text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z)
+    head_text = to_dag_text(*head)
+    repo = _shared_repo()
+    shas = []
+    for text in (base_text, head_text):
+        write(repo, "q.dag", text)
+        git(repo, "add", "q.dag")
+        git(repo, "commit", "-q", "--allow-empty", "-m", "step")
+        shas.append(git(repo, "rev-parse", "HEAD"))
+    doc = to_json(diff_revisions(Settings(), shas[0], shas[1], cwd=repo))
+    if base_text == head_text:
+        assert doc["files"] == []
+        return
+    (f,) = doc["files"]
+    (a,) = f["analyses"]
+    sides = (
+        ("before", base_text, case.G, case.measured, case.Z),
+        ("after", head_text, head[0], head[2], head[5]),
+    )
+    for key, text, G, measured, Z in sides:
+        state = a[key]
+        result, rules = _check_verdict(text)
+        diagram = result.diagram
+        verdict = Verdict(diagram, diagram.analysis("question"))
+        assert state["checked"] is True
+        # the one verdict ...
+        assert state["declared_valid"] is verdict.declared_valid
+        assert state["identifiable"] is verdict.identifiable
+        assert [p["rule"] for p in state["problems"]] == [p.rule for p in verdict.problems]
+        # ... is what `check` says (a declared set is valid exactly when no validity
+        # rule fires; no valid set exists exactly when unmeasured-confounding fires) ...
+        assert state["declared_valid"] is not (rules & VALIDITY_RULES)
+        assert state["identifiable"] is ("unmeasured-confounding" not in rules)
+        assert not {p["rule"] for p in state["problems"]} - VALIDITY_RULES
+        # ... and what the definitions say (brute force over paths and subsets)
+        X, Y = case.X, case.Y
+        valid = Z <= measured and brute_force_valid(G, X, Y, set(Z))
+        assert state["declared_valid"] is valid
+        candidates = set(measured) - X - Y
+        minimal = brute_force_minimal_sets(G, X, Y, candidates)
+        assert state["identifiable"] is bool(minimal)
+        listed = sorted(state["minimal_sets"])
+        if state["truncated"]:
+            assert set(map(tuple, listed)) < {tuple(sorted(m)) for m in minimal}
+        else:
+            assert sorted(sorted(m) for m in minimal) == listed
+    # an analysis is "changed" exactly when a fact of its verdict changed
+    facts = ("declared_valid", "identifiable", "route", "minimal_sets", "smallest",
+             "best_achievable", "declared", "exposure", "outcome")  # fmt: skip
+    same = all(a["before"][k] == a["after"][k] for k in facts) and [
+        (p["rule"], p.get("variable")) for p in a["before"]["problems"] + a["before"]["notes"]
+    ] == [(p["rule"], p.get("variable")) for p in a["after"]["problems"] + a["after"]["notes"]]
+    assert (a["status"] == "unchanged") is same
+
+
+def test_base_without_common_history_is_compared_at_its_tip(history, capsys):
+    repo, shas = history
+    git(repo, "checkout", "-q", "--orphan", "fresh")
+    git(repo, "rm", "-q", "-r", "--cached", ".")
+    write(repo, "wellness.dag", WELLNESS)
+    git(repo, "add", "wellness.dag")
+    git(repo, "commit", "-q", "-m", "a fresh start")
+    doc = run_json(capsys, "--base", "main", "--head", "HEAD")
+    assert doc["base_commit"] == shas["c5"]
+    assert doc["base"] == f"main ({shas['c5'][:7]}; no common history with HEAD)"

@@ -242,7 +242,7 @@ def test_periods_read_left_to_right_after_layout(name):
 # --- Mermaid -------------------------------------------------------------------------
 
 MMD_NODE = re.compile(r'^\s+(v\d+)(\{\{|\[\[|\()"(.*)"(\}\}|\]\]|\))$')
-MMD_LINK = re.compile(r"^\s+(v\d+) (-->|==>|-\.->|<-\.->) (v\d+)$")
+MMD_LINK = re.compile(r"^\s+(v\d+) (-->|==>|-\.->|<-\.->|<==>) (v\d+)$")
 
 
 def read_mermaid(text: str):
@@ -317,6 +317,34 @@ def test_mermaid_bidirected(bidirected):
     assert len(two_headed) == 2
     dashes = sorted(link_styles[i].split(",")[0] for i, _, _ in two_headed)
     assert dashes == ["stroke-dasharray:2 4", "stroke-dasharray:7 4"]  # open one dotted
+
+
+def test_mermaid_highlighted_arrows(bidirected):
+    """`diff` marks arrows by their key; everything else is drawn as `render` draws it."""
+    from dagward.model import arrow_key
+    from dagward.render import HIGHLIGHT, picture, to_mermaid
+
+    diagram, problem = parse_source(bidirected.read_bytes(), str(bidirected))
+    analysis = diagram.analyses[0]
+    marked = frozenset({arrow_key("x", "y", False), arrow_key("y", "c", True)})
+    plain = to_mermaid(picture(diagram, analysis)).splitlines()
+    text = to_mermaid(picture(diagram, analysis, highlight=marked))
+    nodes, links, link_styles, _, _ = read_mermaid(text)
+    ids = {label.split("(")[-1].rstrip(")"): node for node, (_, label) in nodes.items()}
+    name_of = {node: v for v, node in ids.items()}
+    hot = {i for i, style in link_styles.items() if f"stroke:{HIGHLIGHT}" in style}
+    drawn = [(name_of[a], op, name_of[b]) for a, op, b in links]
+    assert {drawn[i] for i in hot} == {("x", "==>", "y"), ("c", "<==>", "y")}
+    assert all(link_styles[i] == f"stroke:{HIGHLIGHT},stroke-width:4px" for i in hot)
+
+    # the rest of the picture is unchanged: nodes, keys, classes, the other links
+    def others(lines):
+        return [x for x in lines if not MMD_LINK.match(x) and "linkStyle" not in x]
+
+    assert others(text.splitlines()) == others(plain)
+    _, plain_links, plain_styles, _, _ = read_mermaid("\n".join(plain))
+    for i in set(range(len(links))) - hot:
+        assert (links[i], link_styles.get(i)) == (plain_links[i], plain_styles.get(i))
 
 
 # --- SVG and PNG ---------------------------------------------------------------------

@@ -8,7 +8,6 @@ gate); 2 with a one-line message when the revisions or files cannot be read
 from __future__ import annotations
 
 import argparse
-import json
 import os
 
 from .common import emit, settings_from
@@ -18,7 +17,9 @@ HELP = (
     "removed, and per analysis the declared set's verdict, the minimal adjustment sets "
     "and the implied independencies before and after. Compares the merge base of HEAD "
     "with the default branch (origin/HEAD, main or master) against the working tree, or "
-    "--base/--head revisions, or two files: `dagward diff OLD.dag NEW.dag`. "
+    "with --base REV the merge base of REV and HEAD (or --head) against the working tree "
+    "(or --head); the first line names the commit compared. Or two files: "
+    "`dagward diff OLD.dag NEW.dag`. "
     "Always exits 0 unless the input cannot be read (2)."
 )
 FORMATS = ("text", "json", "markdown")
@@ -34,7 +35,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument(
         "--base",
         metavar="REV",
-        help="the old revision (default: merge base with the default branch)",
+        help="the old side: its merge base with --head (or HEAD) is compared "
+        "(default: the default branch)",
     )
     p.add_argument("--head", metavar="REV", help="the new revision (default: the working tree)")
     p.add_argument(
@@ -47,8 +49,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..diff import diff_files, diff_revisions, render_markdown, render_text, to_json
+    from ..diff import diff_files, diff_revisions
     from ..errors import UsageProblem
+    from ..report.diff import render_json, render_markdown, render_text
 
     if args.max < 1:
         raise UsageProblem("--max must be at least 1")
@@ -63,11 +66,6 @@ def run(args: argparse.Namespace) -> int:
         report = diff_files(args.paths[0], args.paths[1], settings, args.max)
     else:
         report = diff_revisions(settings, args.base, args.head, args.paths, max_sets=args.max)
-    if args.format == "json":
-        text = json.dumps(to_json(report), indent=2, ensure_ascii=False) + "\n"
-    elif args.format == "markdown":
-        text = render_markdown(report)
-    else:
-        text = render_text(report)
-    emit(args, text)
+    renderer = {"json": render_json, "markdown": render_markdown}.get(args.format, render_text)
+    emit(args, renderer(report))
     return 0
