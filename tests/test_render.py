@@ -334,8 +334,12 @@ def test_mermaid_highlighted_arrows(bidirected):
     name_of = {node: v for v, node in ids.items()}
     hot = {i for i, style in link_styles.items() if f"stroke:{HIGHLIGHT}" in style}
     drawn = [(name_of[a], op, name_of[b]) for a, op, b in links]
-    assert {drawn[i] for i in hot} == {("x", "==>", "y"), ("c", "<==>", "y")}
-    assert all(link_styles[i] == f"stroke:{HIGHLIGHT},stroke-width:4px" for i in hot)
+    # a marked `<->` keeps its two heads and dash pattern, as the key describes it
+    assert {drawn[i] for i in hot} == {("x", "==>", "y"), ("c", "<-.->", "y")}
+    for i in hot:
+        dashes = ",stroke-dasharray:" if drawn[i][1] == "<-.->" else None
+        assert link_styles[i].startswith(f"stroke:{HIGHLIGHT},stroke-width:4px")
+        assert (dashes in link_styles[i]) if dashes else link_styles[i].endswith("4px")
 
     # the rest of the picture is unchanged: nodes, keys, classes, the other links
     def others(lines):
