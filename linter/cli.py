@@ -40,6 +40,11 @@ def _common(formats: tuple[str, ...]) -> argparse.ArgumentParser:
     g.add_argument("--format", choices=formats, default=formats[0], help="output format")
     g.add_argument("--output", metavar="FILE", help="write the report to FILE (atomically)")
     g.add_argument("--config", metavar="FILE", help="TOML file with a [tool.dagward] table")
+    g.add_argument(
+        "--no-config",
+        action="store_true",
+        help="use no configuration file (defaults and command-line options only)",
+    )
     g.add_argument("--enable", metavar="RULE", action="append", default=[], help="turn a rule on")
     g.add_argument("--disable", metavar="RULE", action="append", default=[], help="turn a rule off")
     g.add_argument(
@@ -87,6 +92,13 @@ def main(argv: list[str] | None = None) -> int:
     from .errors import DiagramHasErrors, UsageProblem
 
     try:
+        from .commands.common import refuse_overwriting_inputs
+
+        refuse_overwriting_inputs(
+            [getattr(args, "output", None), getattr(args, "plot", None)],
+            [getattr(args, "file", None) or "-", *getattr(args, "paths", []),
+             getattr(args, "data", None) or "-"],
+        )  # fmt: skip
         return args.run(args)
     except DiagramHasErrors as e:
         from .report import Report, reporter

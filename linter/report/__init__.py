@@ -17,6 +17,7 @@ REPORTERS: dict[str, str] = {
     "json": "linter.report.json_report",
     "sarif": "linter.report.sarif",
     "github": "linter.report.github",
+    "line": "linter.report.line",
 }
 
 
