@@ -5,6 +5,12 @@ file that would change, or when a file does not parse (it is reported with
 file:line:column and left untouched; the other files are still formatted);
 2 for usage and I/O problems. `--diff` alone prints the changes and exits 0;
 with `--check` too it exits 1 when there is any change.
+
+`fmt -` reads a diagram from standard input and prints it formatted (editors
+format on save this way); with a syntax error it prints nothing, reports the
+error on stderr and exits 1. A read-only file is not rewritten: it is named on
+stderr and the exit status is 2 once the other files are done. A symbolic link
+is written through to its target (see `linter.fileio`), owner and mode kept.
 """
 
 from __future__ import annotations
@@ -13,9 +19,9 @@ import argparse
 import difflib
 import sys
 
-from ..files import discover
+from ..files import BadEntry, discover_all
 from ..fmt import format_source
-from .common import emit, settings_from
+from .common import emit, finder_from
 
 HELP = (
     "Rewrite diagram files in the canonical layout (spacing, indentation inside analysis "
@@ -26,7 +32,9 @@ FORMATS = ("text",)
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
-    p.add_argument("paths", nargs="*", metavar="PATH", help="files or directories")
+    p.add_argument("paths", nargs="*", metavar="PATH", help="files or directories, or - for stdin")
+    p.add_argument("--stdin-filename", metavar="NAME", help="with `-`: the file name shown in "
+                   "messages")  # fmt: skip
     p.add_argument(
         "--check", action="store_true", help="change nothing; exit 1 when a file would change"
     )
@@ -48,20 +56,50 @@ def unified_diff(path: str, before: str, after: str) -> str:
     return "".join(out)
 
 
-def run(args: argparse.Namespace) -> int:
-    from ..fileio import write_atomic
+def _format_stdin(args: argparse.Namespace) -> int:
+    name = args.stdin_filename or "<stdin>"
+    data = sys.stdin.buffer.read()
+    formatted, problem = format_source(data, name)
+    if problem is not None:
+        sys.stderr.write(
+            f"{name}:{problem.span.line}:{problem.span.column}: error [syntax-error] "
+            f"{problem.message} (not formatted)\n"
+        )
+        return 1
+    assert formatted is not None
+    changed = formatted.encode("utf-8") != data
+    if args.diff:
+        if changed:
+            emit(args, unified_diff(name, data.decode("utf-8", errors="replace"), formatted))
+    elif not args.check:
+        emit(args, formatted)
+    return 1 if (args.check and changed) else 0
 
-    settings = settings_from(args)
-    files = discover(args.paths, settings)
-    if not files:
+
+def run(args: argparse.Namespace) -> int:
+    from ..errors import UsageProblem
+    from ..fileio import ReadOnlyFile, write_atomic
+
+    if "-" in args.paths:
+        if len(args.paths) > 1:
+            raise UsageProblem("`-` (standard input) cannot be combined with other paths")
+        return _format_stdin(args)
+    found = discover_all(args.paths, finder_from(args))
+    files = found.paths
+    if not files and not found.bad:
         where = ", ".join(args.paths) if args.paths else "the current directory"
         sys.stderr.write(f"dagward: no .dag files found in {where}\n")
     changed: list[str] = []
     broken: list[str] = []
+    refused: list[str] = []
     diffs: list[str] = []
     for file in files:
-        with open(file, "rb") as handle:
-            data = handle.read()
+        try:
+            with open(file, "rb") as handle:
+                data = handle.read()
+        except OSError as e:
+            found.bad.append(BadEntry(file, f"cannot be read ({e.strerror or e})"))
+            continue
         formatted, problem = format_source(data, file)
         if problem is not None:
             # Never rewrite a file we could not read completely: it stays as it is.
@@ -74,7 +112,6 @@ def run(args: argparse.Namespace) -> int:
         assert formatted is not None
         if formatted.encode("utf-8") == data:
             continue
-        changed.append(file)
         if args.diff:
             before = data.decode("utf-8", errors="replace")
             diffs.append(unified_diff(file, before, formatted))
@@ -82,18 +119,37 @@ def run(args: argparse.Namespace) -> int:
             if not args.diff:
                 sys.stdout.write(f"{file}: would reformat\n")
         elif not args.diff:
-            write_atomic(file, formatted)
+            try:
+                write_atomic(file, formatted)
+            except ReadOnlyFile:
+                refused.append(file)
+                sys.stderr.write(f"dagward: error: {file}: read-only, not reformatted\n")
+                continue
+            except OSError as e:
+                refused.append(file)
+                sys.stderr.write(
+                    f"dagward: error: {file}: cannot be written ({e.strerror or e}), "
+                    "left unchanged\n"
+                )
+                continue
             if not args.quiet:
                 sys.stdout.write(f"{file}: reformatted\n")
+        changed.append(file)
     if args.diff and diffs:
         emit(args, "".join(diffs))
+    for entry in found.bad:
+        sys.stderr.write(f"dagward: error: {entry.path}: {entry.reason} (not formatted)\n")
     if not args.quiet:
         verb = "would be reformatted" if (args.check or args.diff) else "reformatted"
-        unchanged = len(files) - len(changed) - len(broken)
+        unchanged = len(files) - len(changed) - len(broken) - len(refused)
         summary = f"{len(changed)} {_files(len(changed))} {verb}, {unchanged} unchanged"
         if broken:
             summary += f", {len(broken)} not formatted (syntax error)"
+        if refused:
+            summary += f", {len(refused)} not written (read-only or not writable)"
         sys.stderr.write(summary + "\n")
+    if found.bad or refused:
+        return 2
     if broken or (args.check and changed):
         return 1
     return 0
