@@ -25,6 +25,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "diff": ("linter.commands.diff", "what a change to the diagrams means, between git revisions"),
     "render": ("linter.commands.render", "draw a diagram (.dot, .mmd, .svg, .png)"),
     "fmt": ("linter.commands.fmt", "rewrite diagram files in the canonical layout"),
+    "explain": ("linter.commands.explain", "a rule's documentation, with a bad and a good example"),
 }
 
 

@@ -67,8 +67,16 @@ def facts_line(rule: Rule) -> str:
 
 def terminal(rule: Rule) -> str:
     """What `dagward explain RULE` prints: the docstring, examples indented as written."""
-    body = cleaned(rule)
-    return f"{body}\n\n({facts_line(rule)}; silence one line with `# dagward: allow {rule.name}`)\n"
+    lines = []
+    for line in cleaned(rule).splitlines():
+        head = _EXAMPLE_HEAD.match(line)
+        lines.append(f"{head.group(1)} example:" if head else line)
+    facts = facts_line(rule)
+    return (
+        "\n".join(lines)
+        + f"\n\n{facts[:1].upper()}{facts[1:]}.\n"
+        + f"To silence it on one line: `# dagward: allow {rule.name}` at the end of the line.\n"
+    )
 
 
 def rules_markdown() -> str:
