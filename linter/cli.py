@@ -25,6 +25,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "diff": ("linter.commands.diff", "what a change to the diagrams means, between git revisions"),
     "render": ("linter.commands.render", "draw a diagram (.dot, .mmd, .svg, .png)"),
     "fmt": ("linter.commands.fmt", "rewrite diagram files in the canonical layout"),
+    "covariates": (
+        "linter.commands.covariates",
+        "check the covariates of a model formula or list against an analysis",
+    ),
     "explain": ("linter.commands.explain", "a rule's documentation, with a bad and a good example"),
 }
 

@@ -20,7 +20,7 @@ from pathlib import Path
 from .errors import UsageProblem
 from .findings import SEVERITIES, Severity
 
-KEYS = ("include", "exclude", "enable", "disable", "fail-on", "severity")
+KEYS = ("include", "exclude", "enable", "disable", "fail-on", "severity", "columns")
 
 
 class ConfigError(UsageProblem):
@@ -35,6 +35,9 @@ class Settings:
     disable: frozenset[str] = frozenset()
     fail_on: Severity = "error"
     severity: dict[str, Severity] = field(default_factory=dict)
+    # data column name -> diagram variable, where the analysis code's names differ
+    # (`[tool.dagward.columns]`; used by `dagward covariates`)
+    columns: dict[str, str] = field(default_factory=dict)
     root: Path = field(default_factory=Path.cwd)  # include/exclude are relative to this
     source: str | None = None  # the file the settings came from
 
@@ -197,6 +200,14 @@ def from_table(table: dict, source: str, root: Path) -> Settings:
     for rule, level in severity.items():
         _validate_rules([rule], "severity", source)
         checked_severity[rule] = _severity(level, f"severity.{rule}", source)
+    columns = table.get("columns", {})
+    if not isinstance(columns, dict) or not all(
+        isinstance(k, str) and isinstance(v, str) and k.strip() and v.strip()
+        for k, v in columns.items()
+    ):
+        raise ConfigError(
+            f'{source}: `columns` must be a table of data column = "diagram variable"'
+        )
     return Settings(
         include=tuple(_strings(table, "include", source, ["**/*.dag"])),
         exclude=tuple(_strings(table, "exclude", source, [])),
@@ -206,6 +217,7 @@ def from_table(table: dict, source: str, root: Path) -> Settings:
         ),
         fail_on=_severity(table.get("fail-on", "error"), "fail-on", source),
         severity=checked_severity,
+        columns={k.strip(): v.strip() for k, v in columns.items()},
         root=root,
         source=source,
     )
