@@ -18,6 +18,11 @@ from __future__ import annotations
 
 import itertools
 import json
+import os
+import re
+import shutil
+import subprocess
+import sys
 from pathlib import Path
 
 import networkx as nx
@@ -38,41 +43,69 @@ WELLNESS = str(ROOT / "samples" / "wellness.dag")
     ("formula", "outcome", "variables", "terms"),
     [
         # the formula of the contract: functions, a factor and an interaction
-        ("y ~ x + age + ns(bmi, 3) + factor(region) + x:age", ("y",), ("x", "age", "bmi", "region"),
-         (("x",), ("age",), ("bmi",), ("region",), ("x", "age"))),
+        (
+            "y ~ x + age + ns(bmi, 3) + factor(region) + x:age",
+            ("y",),
+            ("x", "age", "bmi", "region"),
+            (("x",), ("age",), ("bmi",), ("region",), ("x", "age")),
+        ),
         # a transformed variable in an interaction adjusts for the variable itself
         ("y ~ log(age):treated", ("y",), ("age", "treated"), (("age", "treated"),)),
         # `-` removes a term ...
         ("y ~ x + age - age", ("y",), ("x",), (("x",),)),
         # ... but age stays through the interaction that x*age brings
         ("y ~ x*age - age", ("y",), ("x", "age"), (("x",), ("x", "age"))),
-        ("y ~ (x + a + b)^2 - a:b", ("y",), ("x", "a", "b"),
-         (("x",), ("a",), ("b",), ("x", "a"), ("x", "b"))),
+        (
+            "y ~ (x + a + b)^2 - a:b",
+            ("y",),
+            ("x", "a", "b"),
+            (("x",), ("a",), ("b",), ("x", "a"), ("x", "b")),
+        ),
         # the intercept names nothing; `0 +` and `- 1` drop it
         ("y ~ 0 + x + age", ("y",), ("x", "age"), (("x",), ("age",))),
         ("y ~ x + age - 1", ("y",), ("x", "age"), (("x",), ("age",))),
         # nesting
-        ("y ~ x + age/region", ("y",), ("x", "age", "region"),
-         (("x",), ("age",), ("age", "region"))),
+        (
+            "y ~ x + age/region",
+            ("y",),
+            ("x", "age", "region"),
+            (("x",), ("age",), ("age", "region")),
+        ),
         # function arguments that are not data: numbers, keywords with constants,
         # contrasts, functions inside functions
-        ("y ~ x + poly(bmi, 2, raw = TRUE) + C(region, contr.treatment)", ("y",),
-         ("x", "bmi", "region"), (("x",), ("bmi",), ("region",))),
-        ("y ~ x + I(age^2) + offset(log(pop)) + s(bmi, k = 5)", ("y",),
-         ("x", "age", "pop", "bmi"), (("x",), ("age",), ("pop",), ("bmi",))),
+        (
+            "y ~ x + poly(bmi, 2, raw = TRUE) + C(region, contr.treatment)",
+            ("y",),
+            ("x", "bmi", "region"),
+            (("x",), ("bmi",), ("region",)),
+        ),
+        (
+            "y ~ x + I(age^2) + offset(log(pop)) + s(bmi, k = 5)",
+            ("y",),
+            ("x", "age", "pop", "bmi"),
+            (("x",), ("age",), ("pop",), ("bmi",)),
+        ),
         ("y ~ x + te(age, bmi)", ("y",), ("x", "age", "bmi"), (("x",), ("age", "bmi"))),
         # the left side: transformed, or a survival outcome naming two columns
         ("log(y) ~ x", ("y",), ("x",), (("x",),)),
-        ("Surv(time, event) ~ x + strata(site)", ("time", "event"), ("x", "site"),
-         (("x",), ("site",))),
+        (
+            "Surv(time, event) ~ x + strata(site)",
+            ("time", "event"),
+            ("x", "site"),
+            (("x",), ("site",)),
+        ),
         # R names with dots, and quoted names
-        ("y ~ x + bmi.base + log(bmi.base)", ("y",), ("x", "bmi.base"),
-         (("x",), ("bmi.base",), ("bmi.base",))),
+        (
+            "y ~ x + bmi.base + log(bmi.base)",
+            ("y",),
+            ("x", "bmi.base"),
+            (("x",), ("bmi.base",), ("bmi.base",)),
+        ),
         ("y ~ x + `body mass`", ("y",), ("x", "body mass"), (("x",), ("body mass",))),
         # one-sided
         ("~ x + age", (), ("x", "age"), (("x",), ("age",))),
     ],
-)  # fmt: skip
+)
 def test_formula_variables(formula, outcome, variables, terms):
     parsed = parse_formula(formula)
     assert parsed.outcome == outcome
@@ -294,3 +327,93 @@ def test_verdicts_match_the_definition_on_every_subset(sample, capsys):
                 assert code == (0 if expected else 1)
                 compared += 1
     assert compared >= 16
+
+
+# --- the README's examples, run for real -----------------------------------------------------
+
+
+def _readme_block(language: str, containing: str) -> str:
+    text = (ROOT / "README.md").read_text("utf-8")
+    blocks = re.findall(rf"```{language}\n(.*?)```", text, flags=re.DOTALL)
+    (block,) = [b for b in blocks if containing in b]
+    return block
+
+
+def _project_with_dagward_on_path(tmp_path: Path) -> tuple[Path, dict]:
+    """An analysis project holding causal/wellness.dag, and `dagward` on PATH."""
+    project = tmp_path / "project"
+    (project / "causal").mkdir(parents=True)
+    shutil.copy(WELLNESS, project / "causal" / "wellness.dag")
+    bin_dir = tmp_path / "bin"
+    bin_dir.mkdir()
+    shim = bin_dir / "dagward"
+    shim.write_text(f'#!/bin/sh\nexec "{sys.executable}" -m linter "$@"\n')
+    shim.chmod(0o755)
+    env = {**os.environ, "PYTHONPATH": str(ROOT), "PATH": f"{bin_dir}:{os.environ['PATH']}"}
+    return project, env
+
+
+def test_readme_pytest_example_passes_and_fails_when_it_should(tmp_path):
+    project, env = _project_with_dagward_on_path(tmp_path)
+    block = _readme_block("python", "def test_model_covariates_match_the_diagram")
+    (project / "test_model.py").write_text(block)
+    done = subprocess.run(
+        [sys.executable, "-m", "pytest", "-q", "-p", "no:cacheprovider", "test_model.py"],
+        cwd=project,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
+    assert done.returncode == 0, done.stdout + done.stderr
+    # the same test with a covariate missing fails, and says why
+    (project / "test_model.py").write_text(block.replace(" + C(shift_work)", ""))
+    done = subprocess.run(
+        [sys.executable, "-m", "pytest", "-q", "-p", "no:cacheprovider", "test_model.py"],
+        cwd=project,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
+    assert done.returncode == 1 and "open-biasing-path" in done.stdout
+
+
+def test_readme_stata_shell_line_leaves_the_marker_only_on_failure(tmp_path):
+    project, env = _project_with_dagward_on_path(tmp_path)
+    block = _readme_block("stata", "shell dagward covariates")
+    line = next(x for x in block.splitlines() if x.startswith("shell "))
+    command = line.removeprefix("shell ")
+    done = subprocess.run(
+        ["sh", "-c", command], cwd=project, env=env, capture_output=True, text=True, timeout=300
+    )
+    assert done.returncode == 0 and "verdict: valid" in done.stdout
+    assert not (project / "dagward_failed").exists()
+    failing = command.replace("--list age,shift_work", "--list age")
+    subprocess.run(["sh", "-c", failing], cwd=project, env=env, capture_output=True, timeout=300)
+    assert (project / "dagward_failed").exists()
+
+
+def test_readme_r_example_uses_a_command_that_works(tmp_path):
+    """The arguments the R example hands to system2, run as R would run them."""
+    project, env = _project_with_dagward_on_path(tmp_path)
+    block = _readme_block("r", "system2")
+    formula = re.search(r"model_formula <- (.*)\n", block).group(1)
+    assert '"--analysis", "fitness_effect"' in block and "causal/wellness.dag" in block
+    done = subprocess.run(
+        [
+            "dagward",
+            "covariates",
+            "causal/wellness.dag",
+            "--analysis",
+            "fitness_effect",
+            "--formula",
+            formula,
+        ],
+        cwd=project,
+        env=env,
+        capture_output=True,
+        text=True,
+        timeout=300,
+    )
+    assert done.returncode == 0, done.stdout + done.stderr
