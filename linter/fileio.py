@@ -9,6 +9,8 @@ file or the new one, never a mixture. Its promises:
   process may set them (as root, say);
 * a symbolic link is written through: the file it points at is replaced and
   the link stays a link;
+* a path that is not a regular file (`/dev/stdout`, a named pipe) is written
+  to directly: there is nothing to replace;
 * a read-only file is refused (`ReadOnlyFile`), never silently replaced;
 * SIGTERM, SIGHUP and Ctrl-C during the write remove the temporary file before
   the process ends (the handlers are installed only while a write is under way
@@ -20,6 +22,7 @@ from __future__ import annotations
 import errno
 import os
 import signal
+import stat
 import tempfile
 import threading
 from collections.abc import Iterator
@@ -110,6 +113,15 @@ def write_atomic(path: str | Path, data: str | bytes) -> None:
     temporary file is left.
     """
     payload = data.encode("utf-8") if isinstance(data, str) else data
+    try:
+        special = not stat.S_ISREG(os.stat(path).st_mode)
+    except (FileNotFoundError, NotADirectoryError):
+        special = False
+    if special:
+        # /dev/stdout, a named pipe, a terminal: nothing to replace, so write to it
+        with open(path, "wb") as handle:
+            handle.write(payload)
+        return
     target = resolve_target(path)
     directory = target.parent if str(target.parent) else Path(".")
     try:

@@ -430,3 +430,17 @@ def test_the_slow_writer_really_blocks(tmp_path: Path) -> None:
     finally:
         child.kill()
         child.wait()
+
+
+def test_output_to_a_pipe_or_dev_stdout_is_written_directly(tmp_path: Path) -> None:
+    before = (os.path.islink("/dev/stdout"), os.readlink("/dev/stdout"))
+    done = subprocess.run(
+        [sys.executable, "-m", "linter", "check", "samples/broken/cycle.dag", "--format", "json",
+         "--output", "/dev/stdout"],
+        cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)}, capture_output=True, text=True,
+        timeout=300,
+    )  # fmt: skip
+    assert done.returncode == 1, done.stderr
+    assert '"rule": "cycle"' in done.stdout
+    # not replaced by a regular file (as root a rename over it would succeed)
+    assert before == (os.path.islink("/dev/stdout"), os.readlink("/dev/stdout"))
