@@ -50,9 +50,12 @@ def matches(relative: str, patterns: tuple[str, ...]) -> bool:
 
 
 def _relative_to_root(path: Path, settings: Settings) -> str:
+    # The folder is resolved, the file name is not: a link is matched where it
+    # lies (a dangling one or a loop too), not where it points.
+    where = Path(os.path.realpath(path.parent)) / path.name
     try:
-        return path.resolve().relative_to(settings.root.resolve()).as_posix()
-    except (ValueError, OSError, RuntimeError):  # outside the root, or a link loop
+        return where.relative_to(settings.root.resolve()).as_posix()
+    except ValueError:  # outside the root
         return path.as_posix()
 
 
