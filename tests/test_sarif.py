@@ -7,7 +7,9 @@ Version 2.1.0", 2020), copied unchanged into tests/schemas/ (see the NOTICE ther
 from __future__ import annotations
 
 import json
+import os
 import subprocess
+import sys
 from pathlib import Path
 
 import jsonschema
@@ -293,3 +295,26 @@ def test_rule_docs_file_is_in_sync_with_the_docstrings():
         assert "# expect:" not in on_disk
         # each rule's bad example is in its section
         assert ruledoc.parts(rule)[1].split("```")[1].strip() in on_disk
+
+
+def test_fingerprints_from_standard_input_use_the_buffer(tmp_path):
+    """An editor's unsaved buffer gets the fingerprints the saved file would get."""
+    saved = tmp_path / "study.dag"
+    saved.write_text(THREE_ON_ONE_LINE, "utf-8")
+    on_disk = subprocess.run(
+        [sys.executable, "-m", "linter", "check", str(saved), "--format", "sarif"],
+        cwd=tmp_path, env={**os.environ, "PYTHONPATH": str(REPO)}, capture_output=True,
+        text=True, timeout=300,
+    )  # fmt: skip
+    # the file on disk now differs from the buffer (a line added above, one reformatted)
+    saved.write_text("x -> y\n" + THREE_ON_ONE_LINE.replace("age -> enrolled", "age->enrolled"))
+    buffer = subprocess.run(
+        [sys.executable, "-m", "linter", "check", "-", "--stdin-filename", str(saved),
+         "--format", "sarif"],
+        input=THREE_ON_ONE_LINE, cwd=tmp_path, env={**os.environ, "PYTHONPATH": str(REPO)},
+        capture_output=True, text=True, timeout=300,
+    )  # fmt: skip
+    first = json.loads(on_disk.stdout)["runs"][0]["results"]
+    second = json.loads(buffer.stdout)["runs"][0]["results"]
+    assert [r["partialFingerprints"] for r in first] == [r["partialFingerprints"] for r in second]
+    assert len(first) == 3

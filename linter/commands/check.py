@@ -82,6 +82,7 @@ def run(args: argparse.Namespace) -> int:
     findings = []
     failing = False
     checked = 0
+    sources: dict[str, bytes] = {}
     for file, settings in files:
         try:
             data = read_input("-" if from_stdin else file)
@@ -89,11 +90,15 @@ def run(args: argparse.Namespace) -> int:
             bad.append(BadEntry(file, f"cannot be read ({e.strerror or e})"))
             continue
         checked += 1
+        if from_stdin:
+            sources[file] = data  # the buffer, not what is on disk under that name
         result = lint_source(data, file, settings, table=table, data_options=options)
         findings.extend(result.findings)
         threshold = SEVERITY_RANK[settings.fail_on]
         failing |= any(SEVERITY_RANK[f.severity] >= threshold for f in result.findings)
-    report = Report(findings, checked, color=use_color(args), quiet=args.quiet)
+    report = Report(
+        findings, checked, color=use_color(args), quiet=args.quiet, sources=sources or None
+    )
     emit(args, reporter(args.format)(report))
     for entry in bad:
         sys.stderr.write(f"dagward: error: {entry.path}: {entry.reason} (not checked)\n")

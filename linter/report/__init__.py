@@ -28,6 +28,8 @@ class Report:
     color: bool = False
     quiet: bool = False
     repository_root: str | None = None  # for SARIF URIs
+    # text of files that are not on disk as checked (standard input), by file name
+    sources: dict[str, bytes] | None = None
 
 
 def counts(findings: list[Finding]) -> dict[str, int]:

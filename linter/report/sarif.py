@@ -181,8 +181,11 @@ def message_text(f: Finding) -> str:
 class SourceLines:
     """The lines of the checked files, read once each (for fingerprints)."""
 
-    def __init__(self) -> None:
-        self._files: dict[str, list[str]] = {}
+    def __init__(self, given: dict[str, bytes] | None = None) -> None:
+        self._files: dict[str, list[str]] = {
+            name: data.decode("utf-8", errors="replace").splitlines()
+            for name, data in (given or {}).items()
+        }
 
     def line(self, file: str, number: int) -> str:
         if file not in self._files:
@@ -203,8 +206,10 @@ def fingerprint_base(f: Finding, uri: str, source: SourceLines) -> str:
     return "\x1f".join((f.rule, uri, f.analysis or "", message, line))
 
 
-def fingerprints(findings: list[Finding], root: Path) -> list[str]:
-    source = SourceLines()
+def fingerprints(
+    findings: list[Finding], root: Path, sources: dict[str, bytes] | None = None
+) -> list[str]:
+    source = SourceLines(sources)
     seen: dict[str, int] = {}
     out = []
     for f in findings:
@@ -247,7 +252,7 @@ def log(report: Report) -> dict:
     descriptors, index = rule_descriptors()
     # sorted as every reporter shows them, so "which occurrence" is well defined
     findings = sorted(report.findings, key=Finding.sort_key)
-    prints = fingerprints(findings, root)
+    prints = fingerprints(findings, root, report.sources)
     return {
         "$schema": SARIF_SCHEMA_URI,
         "version": SARIF_VERSION,
