@@ -198,6 +198,8 @@ def test_fmt_writes_through_a_link_and_keeps_mode(tmp_path: Path) -> None:
     real.mkdir()
     (real / "study.dag").write_text(UNFORMATTED)
     os.chmod(real / "study.dag", 0o664)
+    if os.geteuid() == 0:
+        os.chown(real / "study.dag", 65534, 65534)  # fmt as root must not take the file over
     link = tmp_path / "study.dag"
     link.symlink_to("causal/study.dag")
     run = dagward("fmt", str(link))
@@ -205,6 +207,9 @@ def test_fmt_writes_through_a_link_and_keeps_mode(tmp_path: Path) -> None:
     assert link.is_symlink() and os.readlink(link) == "causal/study.dag"
     assert (real / "study.dag").read_text() == FORMATTED
     assert _mode(real / "study.dag") == 0o664
+    if os.geteuid() == 0:
+        owner = (real / "study.dag").stat()
+        assert (owner.st_uid, owner.st_gid) == (65534, 65534)
 
 
 def test_fmt_refuses_a_read_only_file_and_formats_the_others(tmp_path: Path) -> None:
