@@ -137,6 +137,12 @@ def discover(paths: list[str], settings: Settings | SettingsFinder) -> list[str]
     return found.paths
 
 
+def os_reason(e: OSError) -> str:
+    """The system's reason in the middle of our sentence: "permission denied"."""
+    text = e.strerror or type(e).__name__
+    return text[:1].lower() + text[1:]
+
+
 def _link_problem(path: str) -> str:
     try:
         os.stat(path)
@@ -145,7 +151,7 @@ def _link_problem(path: str) -> str:
             return "symbolic link loop"
         if e.errno == errno.ENOENT:
             return "symbolic link to a file that does not exist"
-        return f"cannot be read ({e.strerror})"
+        return f"cannot be read ({os_reason(e)})"
     return "cannot be read"
 
 
@@ -156,7 +162,7 @@ def _entry_problem(path: str) -> str | None:
     except OSError as e:
         if os.path.islink(path):
             return _link_problem(path)
-        return f"cannot be read ({e.strerror})"
+        return f"cannot be read ({os_reason(e)})"
     if not stat.S_ISREG(st.st_mode):
         return "not a regular file"
     if not os.access(path, os.R_OK):
@@ -197,5 +203,4 @@ def _walk(
             else:
                 out.files.append((full, here))
     for e in errors:
-        reason = f"folder cannot be read ({e.strerror})" if e.strerror else "folder cannot be read"
-        out.bad.append(BadEntry(e.filename or top, reason))
+        out.bad.append(BadEntry(e.filename or top, f"folder cannot be read ({os_reason(e)})"))

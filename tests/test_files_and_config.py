@@ -276,6 +276,9 @@ def test_bad_entries_are_reported_and_the_rest_is_checked(tmp_path: Path) -> Non
     os.chmod(study / "secret.dag", 0o000)
     (study / "z").mkdir()
     (study / "z" / "also_good.dag").write_text("age -> sick_days\n")
+    (study / "locked").mkdir()
+    (study / "locked" / "hidden.dag").write_text("age -> sick_days\n")
+    os.chmod(study / "locked", 0o000)
     done = subprocess.run(
         [*_unprivileged(), sys.executable, "-m", "linter", "check", str(study)],
         cwd=tmp_path,
@@ -284,6 +287,7 @@ def test_bad_entries_are_reported_and_the_rest_is_checked(tmp_path: Path) -> Non
         text=True,
         timeout=300,
     )
+    os.chmod(study / "locked", 0o755)
     assert "Traceback" not in done.stderr
     assert done.returncode == 2, done.stderr
     errors = done.stderr.splitlines()
@@ -294,6 +298,8 @@ def test_bad_entries_are_reported_and_the_rest_is_checked(tmp_path: Path) -> Non
             f"dagward: error: {study}/loop_a.dag: symbolic link loop (not checked)",
             f"dagward: error: {study}/loop_b.dag: symbolic link loop (not checked)",
             f"dagward: error: {study}/secret.dag: cannot be read (permission denied) (not checked)",
+            f"dagward: error: {study}/locked: folder cannot be read (permission denied) "
+            "(not checked)",
         ]
     )
     # the good files were checked: the cycle is reported, and both are counted

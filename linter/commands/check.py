@@ -16,7 +16,7 @@ import argparse
 import sys
 
 from ..engine import lint_source
-from ..files import BadEntry, discover_all
+from ..files import BadEntry, discover_all, os_reason
 from ..findings import SEVERITY_RANK
 from ..report import Report, reporter
 from .common import emit, finder_from, read_input, refuse_overwriting_inputs, use_color
@@ -87,7 +87,7 @@ def run(args: argparse.Namespace) -> int:
         try:
             data = read_input("-" if from_stdin else file)
         except OSError as e:  # it changed since discovery: report it like a bad entry
-            bad.append(BadEntry(file, f"cannot be read ({e.strerror or e})"))
+            bad.append(BadEntry(file, f"cannot be read ({os_reason(e)})"))
             continue
         checked += 1
         if from_stdin:

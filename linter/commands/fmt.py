@@ -19,7 +19,7 @@ import argparse
 import difflib
 import sys
 
-from ..files import BadEntry, discover_all
+from ..files import BadEntry, discover_all, os_reason
 from ..fmt import format_source
 from .common import emit, finder_from
 
@@ -98,7 +98,7 @@ def run(args: argparse.Namespace) -> int:
             with open(file, "rb") as handle:
                 data = handle.read()
         except OSError as e:
-            found.bad.append(BadEntry(file, f"cannot be read ({e.strerror or e})"))
+            found.bad.append(BadEntry(file, f"cannot be read ({os_reason(e)})"))
             continue
         formatted, problem = format_source(data, file)
         if problem is not None:
