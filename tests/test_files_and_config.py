@@ -356,8 +356,8 @@ def test_everything_excluded_and_an_include_that_matches_nothing(tmp_path: Path)
     run = dagward("check", str(study), cwd=tmp_path)
     assert run.code == 0
     assert run.err.strip() == (
-        f"dagward: no .dag files to check in {study}: all 1 matching file is excluded by "
-        f"`exclude` in {study}/pyproject.toml"
+        f"dagward: no .dag files to check in {study}: `exclude` in {study}/pyproject.toml "
+        "leaves out the only one"
     )
     (study / "pyproject.toml").write_text('[tool.dagward]\ninclude = ["models/*.dag"]\n')
     run = dagward("check", str(study), cwd=tmp_path)

@@ -66,10 +66,10 @@ def run(args: argparse.Namespace) -> int:
             _warn(f"the include pattern `{pattern}` ({source}) matches no file in {where}")
         if not files and not bad:
             if found.excluded:
+                which = "the only one" if found.excluded == 1 else f"all {found.excluded}"
                 _warn(
-                    f"no .dag files to check in {where}: all {found.excluded} matching "
-                    f"{'file is' if found.excluded == 1 else 'files are'} excluded by `exclude` "
-                    f"in {', '.join(sorted(found.excluded_by))}"
+                    f"no .dag files to check in {where}: `exclude` in "
+                    f"{', '.join(sorted(found.excluded_by))} leaves out {which}"
                 )
             else:
                 _warn(f"no .dag files found in {where}")
