@@ -27,7 +27,7 @@ from pathlib import Path
 
 import networkx as nx
 import pytest
-from clirunner import ROOT, dagward
+from clirunner import ROOT, Run, dagward
 
 from linter.api import load_diagram
 from linter.cli import main
@@ -134,8 +134,19 @@ def test_formulas_that_are_refused(formula, says):
 # --- the command ----------------------------------------------------------------------------
 
 
-def test_valid_formula_exits_0_with_the_verdict():
-    run = dagward(
+def in_process(capsys, *args: str) -> Run:
+    """The command line run in this process (no interpreter start-up per case)."""
+    try:
+        code = main(list(args))
+    except SystemExit as e:  # argparse ends a bad command line this way
+        code = e.code
+    captured = capsys.readouterr()
+    return Run(code, captured.out, captured.err)
+
+
+def test_valid_formula_exits_0_with_the_verdict(capsys):
+    run = in_process(
+        capsys,
         "covariates",
         WELLNESS,
         "--analysis",
@@ -151,9 +162,10 @@ def test_valid_formula_exits_0_with_the_verdict():
     ]
 
 
-def test_exposure_terms_are_recognised_and_interactions_adjust():
+def test_exposure_terms_are_recognised_and_interactions_adjust(capsys):
     # the exposure in an interaction is still the exposure; `age` comes in through it
-    run = dagward(
+    run = in_process(
+        capsys,
         "covariates",
         WELLNESS,
         "--analysis",
@@ -168,7 +180,8 @@ def test_exposure_terms_are_recognised_and_interactions_adjust():
     assert doc["exposure_terms"] == [["fitness_12m"], ["fitness_12m", "age"]]
     assert doc["valid"] is True and run.code == 0
     # without shift_work the back-door path through it stays open
-    run = dagward(
+    run = in_process(
+        capsys,
         "covariates",
         WELLNESS,
         "--analysis",
@@ -184,23 +197,32 @@ def test_exposure_terms_are_recognised_and_interactions_adjust():
     assert all(f["analysis"] == "fitness_effect" for f in doc["findings"])
 
 
-def test_not_valid_prints_only_that_analysis_and_exits_1():
-    run = dagward("covariates", WELLNESS, "--analysis", "fitness_effect", "--list", "age")
+def test_not_valid_prints_only_that_analysis_and_exits_1(capsys):
+    run = in_process(
+        capsys, "covariates", WELLNESS, "--analysis", "fitness_effect", "--list", "age"
+    )
     assert run.code == 1
     assert "verdict: not a valid adjustment set (according to the diagram); see below" in run.out
     # shift_work -> fitness_base -> ... and shift_work -> sick_days stays open
     assert "[open-biasing-path]" in run.out and "shift_work" in run.out
     assert "total_effect" not in run.out
     # a warning alone does not make the set invalid (enrolled acts like an instrument)
-    run = dagward(
-        "covariates", WELLNESS, "--analysis", "fitness_effect", "--list", "age,shift_work,enrolled"
+    run = in_process(
+        capsys,
+        "covariates",
+        WELLNESS,
+        "--analysis",
+        "fitness_effect",
+        "--list",
+        "age,shift_work,enrolled",
     )
     assert run.code == 0 and "[instrument-adjusted]" in run.out
     assert "verdict: valid adjustment set" in run.out
 
 
-def test_unknown_names_get_suggestions_and_renames_fix_them(tmp_path):
-    run = dagward(
+def test_unknown_names_get_suggestions_and_renames_fix_them(tmp_path, capsys, monkeypatch):
+    run = in_process(
+        capsys,
         "covariates",
         WELLNESS,
         "--analysis",
@@ -213,7 +235,8 @@ def test_unknown_names_get_suggestions_and_renames_fix_them(tmp_path):
     assert "`sick` (did you mean `sick_days`?)" in run.err
     assert "`agee` (did you mean `age`?)" in run.err
     assert "--rename COLUMN=VARIABLE" in run.err
-    run = dagward(
+    run = in_process(
+        capsys,
         "covariates",
         WELLNESS,
         "--analysis",
@@ -229,29 +252,31 @@ def test_unknown_names_get_suggestions_and_renames_fix_them(tmp_path):
     mapped = "agee = age, shift = shift_work, sick = sick_days"
     assert f"data columns read as diagram variables: {mapped}" in run.out
     # the same mapping from [tool.dagward.columns] next to the diagram
+    monkeypatch.chdir(tmp_path)
     study = tmp_path / "study"
     study.mkdir()
     (study / "wellness.dag").write_text(Path(WELLNESS).read_text())
     (study / "pyproject.toml").write_text(
         '[tool.dagward.columns]\nsick = "sick_days"\nagee = "age"\nshift = "shift_work"\n'
     )
-    run = dagward(
+    run = in_process(
+        capsys,
         "covariates",
         str(study / "wellness.dag"),
         "--analysis",
         "fitness_effect",
         "--formula",
         "sick ~ fitness_12m + agee + shift",
-        cwd=tmp_path,
     )
     assert run.code == 0, run.err
     (study / "pyproject.toml").write_text("[tool.dagward]\ncolumns = [1]\n")
-    run = dagward("covariates", str(study / "wellness.dag"), "--list", "age", cwd=tmp_path)
+    run = in_process(capsys, "covariates", str(study / "wellness.dag"), "--list", "age")
     assert run.code == 2 and "`columns` must be a table" in run.err
 
 
-def test_outcome_and_exposure_must_match_the_analysis():
-    run = dagward(
+def test_outcome_and_exposure_must_match_the_analysis(capsys):
+    run = in_process(
+        capsys,
         "covariates",
         WELLNESS,
         "--analysis",
@@ -260,7 +285,8 @@ def test_outcome_and_exposure_must_match_the_analysis():
         "age ~ fitness_12m + shift_work",
     )
     assert run.code == 2 and "the outcome of analysis `fitness_effect` is `sick_days`" in run.err
-    run = dagward(
+    run = in_process(
+        capsys,
         "covariates",
         WELLNESS,
         "--analysis",
@@ -269,11 +295,11 @@ def test_outcome_and_exposure_must_match_the_analysis():
         "sick_days ~ age + shift_work",
     )
     assert run.code == 2 and "does not name the exposure `fitness_12m`" in run.err
-    run = dagward("covariates", WELLNESS, "--list", "age")
+    run = in_process(capsys, "covariates", WELLNESS, "--list", "age")
     assert run.code == 2 and "name one with --analysis" in run.err
-    run = dagward("covariates", WELLNESS, "--analysis", "fitnes_effect", "--list", "age")
+    run = in_process(capsys, "covariates", WELLNESS, "--analysis", "fitnes_effect", "--list", "age")
     assert run.code == 2 and "did you mean `fitness_effect`?" in run.err
-    run = dagward("covariates", WELLNESS, "--analysis", "fitness_effect")
+    run = in_process(capsys, "covariates", WELLNESS, "--analysis", "fitness_effect")
     assert run.code == 2  # --formula or --list is required
 
 

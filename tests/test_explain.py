@@ -3,16 +3,27 @@
 from __future__ import annotations
 
 import pytest
-from clirunner import dagward
+from clirunner import Run, dagward
 
+from linter.cli import main
 from linter.report import ruledoc
 from linter.rules import ALL_RULES
 from linter.suggest import close_names
 
 
+def in_process(capsys, *args: str) -> Run:
+    """The command line run in this process (no interpreter start-up per case)."""
+    try:
+        code = main(list(args))
+    except SystemExit as e:  # argparse ends a bad command line this way
+        code = e.code
+    captured = capsys.readouterr()
+    return Run(code, captured.out, captured.err)
+
+
 @pytest.mark.parametrize("rule", ALL_RULES, ids=lambda r: r.name)
-def test_explain_prints_the_docstring_with_both_examples(rule):
-    run = dagward("explain", rule.name)
+def test_explain_prints_the_docstring_with_both_examples(rule, capsys):
+    run = in_process(capsys, "explain", rule.name)
     assert run.code == 0 and run.err == ""
     text = run.out
     assert text.startswith(f"{rule.name}: ")
