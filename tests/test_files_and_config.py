@@ -239,6 +239,7 @@ def test_output_equal_to_an_input_is_refused(tmp_path: Path) -> None:
         ("check", str(tmp_path), "--output", str(study)),  # found inside a checked folder
         ("render", str(study), "-o", str(study)),
         ("adjustment", str(study), "--output", str(tmp_path / "." / "study.dag")),
+        ("fmt", "--diff", str(tmp_path), "--output", str(study)),
     ):
         run = dagward(*args)
         assert run.code == 2, (args, run.out, run.err)

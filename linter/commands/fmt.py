@@ -21,7 +21,7 @@ import sys
 
 from ..files import BadEntry, discover_all, os_reason
 from ..fmt import format_source
-from .common import emit, finder_from
+from .common import emit, finder_from, refuse_overwriting_inputs
 
 HELP = (
     "Rewrite diagram files in the canonical layout (spacing, indentation inside analysis "
@@ -86,6 +86,7 @@ def run(args: argparse.Namespace) -> int:
         return _format_stdin(args)
     found = discover_all(args.paths, finder_from(args))
     files = found.paths
+    refuse_overwriting_inputs([args.output], files)
     if not files and not found.bad:
         where = ", ".join(args.paths) if args.paths else "the current directory"
         sys.stderr.write(f"dagward: no .dag files found in {where}\n")
