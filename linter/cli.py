@@ -25,6 +25,11 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "diff": ("dagward.commands.diff", "what a change to the diagrams means, between git revisions"),
     "render": ("dagward.commands.render", "draw a diagram (.dot, .mmd, .svg, .png, .pdf, .eps)"),
     "fmt": ("dagward.commands.fmt", "rewrite diagram files in the canonical layout"),
+    "covariates": (
+        "dagward.commands.covariates",
+        "check the covariates of a model formula or list against an analysis",
+    ),
+    "explain": ("dagward.commands.explain", "a rule's documentation, with a bad and a good example"),
     "language-server": ("dagward.commands.language_server", "LSP server over stdio for editors"),
 }
 
@@ -41,6 +46,11 @@ def _common(formats: tuple[str, ...]) -> argparse.ArgumentParser:
     g.add_argument("--format", choices=formats, default=formats[0], help="output format")
     g.add_argument("--output", metavar="FILE", help="write the report to FILE (atomically)")
     g.add_argument("--config", metavar="FILE", help="TOML file with a [tool.dagward] table")
+    g.add_argument(
+        "--no-config",
+        action="store_true",
+        help="use no configuration file (defaults and command-line options only)",
+    )
     g.add_argument("--enable", metavar="RULE", action="append", default=[], help="turn a rule on")
     g.add_argument("--disable", metavar="RULE", action="append", default=[], help="turn a rule off")
     g.add_argument(
@@ -88,6 +98,14 @@ def main(argv: list[str] | None = None) -> int:
     from .errors import DiagramHasErrors, UsageProblem
 
     try:
+        from .commands.common import refuse_overwriting_inputs
+
+        refuse_overwriting_inputs(
+            [getattr(args, "output", None), getattr(args, "short_output", None),
+             getattr(args, "plot", None)],
+            [getattr(args, "file", None) or "-", *getattr(args, "paths", []),
+             getattr(args, "data", None) or "-"],
+        )  # fmt: skip
         return args.run(args)
     except DiagramHasErrors as e:
         from .report import Report, reporter

@@ -1,13 +1,18 @@
 """`[tool.dagward]` settings: found, read and strictly validated.
 
-Settings come from `--config FILE` (a TOML file with a `[tool.dagward]` table) or
-from the first `pyproject.toml` found walking up from the current directory.
+Settings come from `--config FILE` (a TOML file with a `[tool.dagward]` table),
+or, for each checked file, from the nearest `pyproject.toml` *with a
+`[tool.dagward]` table* found walking up from that file's directory (a
+pyproject without the table is passed over, so a package's own pyproject.toml
+does not hide the study's settings above it). `--no-config` uses the defaults.
+`SettingsFinder` does the per-file lookup, once per directory.
 Unknown keys, unknown rule names and bad values are errors that name the key and
 the file; the command line then exits with status 2.
 """
 
 from __future__ import annotations
 
+import os
 import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -15,7 +20,7 @@ from pathlib import Path
 from .errors import UsageProblem
 from .findings import SEVERITIES, Severity
 
-KEYS = ("include", "exclude", "enable", "disable", "fail-on", "severity")
+KEYS = ("include", "exclude", "enable", "disable", "fail-on", "severity", "columns")
 
 
 class ConfigError(UsageProblem):
@@ -30,6 +35,9 @@ class Settings:
     disable: frozenset[str] = frozenset()
     fail_on: Severity = "error"
     severity: dict[str, Severity] = field(default_factory=dict)
+    # data column name -> diagram variable, where the analysis code's names differ
+    # (`[tool.dagward.columns]`; used by `dagward covariates`)
+    columns: dict[str, str] = field(default_factory=dict)
     root: Path = field(default_factory=Path.cwd)  # include/exclude are relative to this
     source: str | None = None  # the file the settings came from
 
@@ -61,15 +69,25 @@ class Settings:
 
 
 def find_pyproject(start: Path) -> Path | None:
+    """The nearest `pyproject.toml` with a `[tool.dagward]` table, from `start` upwards."""
     for directory in (start, *start.parents):
         candidate = directory / "pyproject.toml"
-        if candidate.is_file():
+        if candidate.is_file() and _has_table(candidate):
             return candidate
     return None
 
 
-def load_settings(config: str | None = None, cwd: Path | None = None) -> Settings:
+def _has_table(pyproject: Path) -> bool:
+    return _read(pyproject).get("tool", {}).get("dagward") is not None
+
+
+def load_settings(
+    config: str | None = None, cwd: Path | None = None, *, no_config: bool = False
+) -> Settings:
+    """Settings from `config`, else from the nearest `[tool.dagward]` above `cwd`."""
     cwd = cwd or Path.cwd()
+    if no_config:
+        return Settings(root=cwd)
     if config is not None:
         path = Path(config)
         if not path.is_file():
@@ -80,11 +98,81 @@ def load_settings(config: str | None = None, cwd: Path | None = None) -> Setting
         return from_table(table, str(path), path.resolve().parent)
     pyproject = find_pyproject(cwd)
     if pyproject is None:
+        # No settings file: patterns are read relative to the current directory.
         return Settings(root=cwd)
-    table = _read(pyproject).get("tool", {}).get("dagward")
-    if table is None:
-        return Settings(root=cwd)
+    table = _read(pyproject)["tool"]["dagward"]
     return from_table(table, str(pyproject), pyproject.resolve().parent)
+
+
+class SettingsFinder:
+    """The settings that apply to each checked file (see the module docstring).
+
+    With `--config` or `--no-config` every file gets the same settings; otherwise
+    each file gets those of the nearest `[tool.dagward]` above it. Command-line
+    `--enable`/`--disable`/`--fail-on` are applied on top in every case.
+    """
+
+    def __init__(
+        self,
+        config: str | None = None,
+        no_config: bool = False,
+        enable: list[str] | None = None,
+        disable: list[str] | None = None,
+        fail_on: str | None = None,
+    ) -> None:
+        self._overrides = (enable or [], disable or [], fail_on)
+        self._fixed: Settings | None = None
+        if config is not None or no_config:
+            self._fixed = self._override(load_settings(config, no_config=no_config))
+        self._by_directory: dict[str, Path | None] = {}
+        self._by_source: dict[Path | None, Settings] = {}
+
+    def _override(self, settings: Settings) -> Settings:
+        return settings.with_overrides(*self._overrides)
+
+    def for_directory(self, directory: str | Path) -> Settings:
+        if self._fixed is not None:
+            return self._fixed
+        key = os.path.abspath(directory)
+        if key not in self._by_directory:
+            self._by_directory[key] = self._lookup(Path(key))
+        source = self._by_directory[key]
+        if source not in self._by_source:
+            if source is None:
+                self._by_source[source] = self._override(Settings(root=Path.cwd()))
+            else:
+                table = _read(source)["tool"]["dagward"]
+                settings = from_table(table, str(source), source.resolve().parent)
+                self._by_source[source] = self._override(settings)
+        return self._by_source[source]
+
+    def _lookup(self, directory: Path) -> Path | None:
+        # Walk up, reusing what earlier lookups learnt about the directories above.
+        seen: list[str] = []
+        found: Path | None = None
+        for d in (directory, *directory.parents):
+            key = str(d)
+            if key in self._by_directory:
+                found = self._by_directory[key]
+                break
+            seen.append(key)
+            candidate = d / "pyproject.toml"
+            if candidate.is_file() and _has_table(candidate):
+                found = candidate
+                break
+        for key in seen:
+            self._by_directory.setdefault(key, found)
+        return found
+
+    def for_file(self, file: str | Path) -> Settings:
+        """The settings for `file` (a path as given; `-` is stdin, looked up from cwd)."""
+        return self.for_directory(os.path.dirname(os.path.abspath(file)))
+
+    def sources(self) -> list[Settings]:
+        """Every distinct settings object handed out so far."""
+        if self._fixed is not None:
+            return [self._fixed]
+        return list(self._by_source.values())
 
 
 def _read(path: Path) -> dict:
@@ -112,6 +200,14 @@ def from_table(table: dict, source: str, root: Path) -> Settings:
     for rule, level in severity.items():
         _validate_rules([rule], "severity", source)
         checked_severity[rule] = _severity(level, f"severity.{rule}", source)
+    columns = table.get("columns", {})
+    if not isinstance(columns, dict) or not all(
+        isinstance(k, str) and isinstance(v, str) and k.strip() and v.strip()
+        for k, v in columns.items()
+    ):
+        raise ConfigError(
+            f'{source}: `columns` must be a table of data column = "diagram variable"'
+        )
     return Settings(
         include=tuple(_strings(table, "include", source, ["**/*.dag"])),
         exclude=tuple(_strings(table, "exclude", source, [])),
@@ -121,6 +217,7 @@ def from_table(table: dict, source: str, root: Path) -> Settings:
         ),
         fail_on=_severity(table.get("fail-on", "error"), "fail-on", source),
         severity=checked_severity,
+        columns={k.strip(): v.strip() for k, v in columns.items()},
         root=root,
         source=source,
     )

@@ -30,8 +30,6 @@ from __future__ import annotations
 
 import csv
 import math
-import os
-import tempfile
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -58,7 +56,6 @@ __all__ = [
     "partial_correlation",
     "simulate_linear_gaussian",
     "test_independencies",
-    "write_atomic",
 ]
 
 # A numeric column with at most this many distinct values enters a G-test with
@@ -906,39 +903,6 @@ def simulate_linear_gaussian(
             column = (column - column.mean()) / column.std()
         values[node] = column
     return values
-
-
-# --------------------------------------------------------------------------
-# files
-
-
-def write_atomic(path: str | Path, text: str) -> None:
-    """Write ``text`` (UTF-8) to ``path`` via a temporary file in the same
-    directory and ``os.replace``, so readers never see a half-written file.
-    A new file gets the usual permissions (0666 less the umask); an existing
-    file keeps its mode."""
-    path = Path(path)
-    directory = path.parent if str(path.parent) else Path(".")
-    try:
-        mode = path.stat().st_mode & 0o7777
-    except FileNotFoundError:
-        umask = os.umask(0)
-        os.umask(umask)
-        mode = 0o666 & ~umask
-    fd, temp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=directory)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(text)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.chmod(temp, mode)
-        os.replace(temp, path)
-    except BaseException:
-        try:
-            os.unlink(temp)
-        except FileNotFoundError:
-            pass
-        raise
 
 
 def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,

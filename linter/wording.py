@@ -63,21 +63,40 @@ def spell_path(graph, path: Iterable[str]) -> str:
     return "".join(parts)
 
 
-def closest_name(name: str, known: Iterable[str]) -> str | None:
-    """The known name a misspelt one most likely meant (same letters in another
-    case first, then the closest spelling), or None."""
-    known = list(known)
+def close_names(name: str, known: Iterable[str], n: int = 3) -> list[str]:
+    """Up to `n` known names a misspelt `name` may have meant, best first.
+
+    A match that differs only in case first; then one close spelling
+    (difflib's ratio, Ratcliff/Obershelp matching, as in the standard library:
+    one is a clear hint, several a guessing game); and when nothing is close,
+    names that contain the given one as a part (`collider` for
+    `collider-adjusted`).
+    """
+    known = list(dict.fromkeys(known))
     lowered = {k.lower(): k for k in known}
     if name.lower() in lowered:
-        return lowered[name.lower()]
-    close = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
+        return [lowered[name.lower()]]
+    out = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
+    if not out and len(name) >= 3:
+        for k in known:
+            parts = k.lower().replace("_", "-").split("-")
+            if (name.lower() in parts or k.lower().startswith(name.lower())) and k not in out:
+                out.append(k)
+    return out[:n]
+
+
+def closest_name(name: str, known: Iterable[str]) -> str | None:
+    """The one known name a misspelt name most likely meant, or None."""
+    close = close_names(name, known, n=1)
     return close[0] if close else None
 
 
 def did_you_mean(name: str, known: Iterable[str]) -> str:
-    """`; did you mean `age`?`, or nothing when no known name is close."""
-    close = closest_name(name, known)
-    return f"; did you mean `{close}`?" if close else ""
+    """`; did you mean `x`?` (or `x` or `y`), or nothing when no known name is close."""
+    close = close_names(name, known)
+    if not close:
+        return ""
+    return "; did you mean " + " or ".join(f"`{c}`" for c in close) + "?"
 
 
 def arrow_text(source: str, target: str, bidirected: bool) -> str:

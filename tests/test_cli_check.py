@@ -15,7 +15,12 @@ BROKEN = ROOT / "samples" / "broken"
 def test_samples_check_clean_of_errors():
     run = dagward("check", "samples")
     assert run.code == 0, run.out + run.err
-    assert run.out.strip().splitlines()[-1].endswith("in 3 files")
+    *_, summary, hint = run.out.strip().splitlines()
+    assert summary.endswith("in 3 files")
+    # the one pointer to `explain`, after the summary, naming a rule that was found
+    rule = hint.rsplit(" ", 1)[-1]
+    assert hint == f"what a rule means and how to fix it: dagward explain {rule}"
+    assert f"[{rule}]" in run.out
 
 
 def test_text_output_has_position_rule_and_related_lines():
@@ -26,7 +31,10 @@ def test_text_output_has_position_rule_and_related_lines():
     assert "fatigue -> stress -> sleep_loss -> fatigue" in lines[0]
     assert lines[1] == "    samples/broken/cycle.dag:2:1: arrow stress -> sleep_loss"
     assert lines[2] == "    samples/broken/cycle.dag:3:1: arrow sleep_loss -> fatigue"
-    assert lines[-1] == "1 error, 0 warnings in 1 file"
+    assert lines[-2:] == [
+        "1 error, 0 warnings in 1 file",
+        "what a rule means and how to fix it: dagward explain cycle",
+    ]
 
 
 def test_syntax_error_shows_line_and_caret():

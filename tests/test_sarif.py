@@ -1,13 +1,15 @@
 """SARIF output: validates against the official 2.1.0 schema, and says the right things.
 
 The schema is the OASIS one ("Static Analysis Results Interchange Format (SARIF)
-Version 2.1.0", 2020), kept beside the repository in shared/schemas/.
+Version 2.1.0", 2020), copied unchanged into tests/schemas/ (see the NOTICE there).
 """
 
 from __future__ import annotations
 
 import json
+import os
 import subprocess
+import sys
 from pathlib import Path
 
 import jsonschema
@@ -19,7 +21,7 @@ from dagward.report.sarif import log, render
 from dagward.rules import ALL_RULES
 
 REPO = Path(__file__).resolve().parents[1]
-SCHEMA_PATH = Path(__file__).resolve().parents[2] / "shared/schemas/sarif-schema-2.1.0.json"
+SCHEMA_PATH = Path(__file__).resolve().parent / "schemas" / "sarif-schema-2.1.0.json"
 
 # A diagram of our own with one known cycle finding: the cycle is reported at the
 # arrow that comes last (line 3), with the other arrow of the cycle (line 2) related.
@@ -169,3 +171,149 @@ def test_unicode_path_encoding(validator, tmp_path):
     uri = doc["runs"][0]["results"][0]["locations"][0]["physicalLocation"]["artifactLocation"]
     assert uri["uri"] == "gr%C3%B6%C3%9Fe.dag"
     assert doc["runs"][0]["results"][0]["level"] == "error"
+
+
+# --- following an alert from one revision to the next ----------------------------------
+
+# Three findings on line 7 (two adjusted variables, one of them wrong in two ways);
+# the findings stay the same when lines are added above.
+THREE_ON_ONE_LINE = """\
+age -> enrolled
+age -> sick_days
+enrolled -> fitness_12m -> sick_days
+enrolled -> survey_response
+sick_days -> survey_response
+analysis total_effect {
+  adjust: age, fitness_12m, survey_response
+  exposure: enrolled
+  outcome: sick_days
+}
+"""
+
+
+def _results(tmp_path: Path, text: str) -> list[dict]:
+    path = tmp_path / "study.dag"
+    path.write_text(text, "utf-8")
+    findings = lint_source(text, str(path)).findings
+    return log(Report(findings, 1, repository_root=str(tmp_path)))["runs"][0]["results"]
+
+
+def _prints(results: list[dict]) -> dict[tuple[str, str], str]:
+    return {(r["ruleId"], r["message"]["text"]): r["partialFingerprints"]["dagwardFinding/v1"]
+            for r in results}  # fmt: skip
+
+
+def test_fingerprints_survive_a_line_inserted_above(validator, tmp_path):
+    before = _results(tmp_path, THREE_ON_ONE_LINE)
+    # the second revision: a comment and an unrelated arrow above everything
+    after = _results(tmp_path, "# revised after review\nshift_work -> age\n" + THREE_ON_ONE_LINE)
+    validator.validate({"version": "2.1.0", "runs": [{"tool": {"driver": {"name": "x"}},
+                                                      "results": after}]})  # fmt: skip
+    on_line_7 = [r for r in before if r["locations"][0]["physicalLocation"]["region"]
+                 ["startLine"] == 7]  # fmt: skip
+    assert len(on_line_7) == 3, [r["ruleId"] for r in before]
+    # two of them even start at the same column (survey_response)
+    starts = [r["locations"][0]["physicalLocation"]["region"]["startColumn"] for r in on_line_7]
+    assert len(set(starts)) == 2
+    # the findings moved two lines down ...
+    assert {r["locations"][0]["physicalLocation"]["region"]["startLine"] for r in after} >= {9}
+    # ... and each keeps its fingerprint
+    old, new = _prints(before), _prints(after)
+    for key in old:
+        assert key in new, key
+        assert new[key] == old[key], key
+    # two findings on one line have different fingerprints
+    line_7 = [r["partialFingerprints"]["dagwardFinding/v1"] for r in on_line_7]
+    assert len(set(line_7)) == len(line_7)
+    # every fingerprint in a run is distinct
+    every = [r["partialFingerprints"]["dagwardFinding/v1"] for r in before]
+    assert len(set(every)) == len(every)
+
+
+def test_fingerprint_changes_when_the_finding_changes(tmp_path):
+    before = _prints(_results(tmp_path, THREE_ON_ONE_LINE))
+    # another exposure: other findings (and other messages), other fingerprints
+    changed = THREE_ON_ONE_LINE.replace("exposure: enrolled", "exposure: age")
+    after = _prints(_results(tmp_path, changed))
+    assert after and not set(after.values()) & set(before.values())
+
+
+def test_identical_findings_in_one_file_are_told_apart(tmp_path):
+    # the same duplicate arrow stated three times: two findings with the same text
+    text = "age -> sick_days\nage -> sick_days\nage -> sick_days\n"
+    results = _results(tmp_path, text)
+    dups = [r for r in results if r["ruleId"] == "duplicate-arrow"]
+    assert len(dups) == 2
+    assert len({r["partialFingerprints"]["dagwardFinding/v1"] for r in dups}) == 2
+    # and they survive an insertion too
+    again = _results(tmp_path, "# note\n" + text)
+    assert [r["partialFingerprints"] for r in again if r["ruleId"] == "duplicate-arrow"] == [
+        r["partialFingerprints"] for r in dups
+    ]
+
+
+def test_related_places_are_linked_from_the_message(tmp_path):
+    (cycle,) = [r for r in _results(tmp_path, CYCLE) if r["ruleId"] == "cycle"]
+    text = cycle["message"]["text"]
+    # SARIF 2.1.0, 3.11.6: "[text](id)" links to the relatedLocation with that id
+    ids = [r["id"] for r in cycle["relatedLocations"]]
+    assert ids == [1]
+    assert text.endswith(" (see [arrow stress -> sleep_loss](1))")
+
+
+def test_brackets_in_a_message_are_escaped():
+    from dagward.report.sarif import escape_message
+
+    assert escape_message("a [b] c\\") == "a \\[b\\] c\\\\"
+
+
+def test_help_uri_points_at_the_generated_rule_docs():
+    from dagward.report import ruledoc
+    from dagward.report.sarif import PROJECT_URL
+
+    doc = log(Report([], 0, repository_root=str(REPO)))
+    driver = doc["runs"][0]["tool"]["driver"]
+    assert driver["informationUri"] == PROJECT_URL
+    page = (REPO / ruledoc.DOCS_PATH).read_text("utf-8")
+    headings = {line[3:] for line in page.splitlines() if line.startswith("## ")}
+    for rule in driver["rules"]:
+        uri = rule["helpUri"]
+        assert uri.startswith(f"{PROJECT_URL}/blob/main/docs/rules.md#")
+        # the anchor is a heading of the file (GitHub makes "## cycle" into #cycle)
+        assert uri.rsplit("#", 1)[1] == rule["id"] and rule["id"] in headings
+
+
+def test_rule_docs_file_is_in_sync_with_the_docstrings():
+    from dagward.report import ruledoc
+
+    on_disk = (REPO / ruledoc.DOCS_PATH).read_text("utf-8")
+    assert on_disk == ruledoc.rules_markdown(), (
+        "docs/rules.md is out of date: run `python -m dagward.report.ruledoc > docs/rules.md`"
+    )
+    for rule in ALL_RULES:
+        assert "# expect:" not in on_disk
+        # each rule's bad example is in its section
+        assert ruledoc.parts(rule)[1].split("```")[1].strip() in on_disk
+
+
+def test_fingerprints_from_standard_input_use_the_buffer(tmp_path):
+    """An editor's unsaved buffer gets the fingerprints the saved file would get."""
+    saved = tmp_path / "study.dag"
+    saved.write_text(THREE_ON_ONE_LINE, "utf-8")
+    on_disk = subprocess.run(
+        [sys.executable, "-m", "dagward", "check", str(saved), "--format", "sarif"],
+        cwd=tmp_path, env={**os.environ, "PYTHONPATH": str(REPO)}, capture_output=True,
+        text=True, timeout=300,
+    )  # fmt: skip
+    # the file on disk now differs from the buffer (a line added above, one reformatted)
+    saved.write_text("x -> y\n" + THREE_ON_ONE_LINE.replace("age -> enrolled", "age->enrolled"))
+    buffer = subprocess.run(
+        [sys.executable, "-m", "dagward", "check", "-", "--stdin-filename", str(saved),
+         "--format", "sarif"],
+        input=THREE_ON_ONE_LINE, cwd=tmp_path, env={**os.environ, "PYTHONPATH": str(REPO)},
+        capture_output=True, text=True, timeout=300,
+    )  # fmt: skip
+    first = json.loads(on_disk.stdout)["runs"][0]["results"]
+    second = json.loads(buffer.stdout)["runs"][0]["results"]
+    assert [r["partialFingerprints"] for r in first] == [r["partialFingerprints"] for r in second]
+    assert len(first) == 3

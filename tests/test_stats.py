@@ -34,7 +34,6 @@ from dagward.stats import (
     load_table,
     partial_correlation,
     simulate_linear_gaussian,
-    write_atomic,
 )
 from dagward.stats import (
     test_independencies as run_tests,  # the library's name starts with test_
@@ -589,26 +588,6 @@ def test_forest_plot_text_is_covered_by_its_fonts() -> None:
 def test_forest_plot_with_no_results_is_valid_svg() -> None:
     root = ET.fromstring(forest_plot_svg([]))
     assert root.tag == f"{SVG}svg"
-
-
-def test_write_atomic_replaces_and_keeps_mode(tmp_path: Path) -> None:
-    target = tmp_path / "plot.svg"
-    write_atomic(target, "first\n")
-    assert target.read_text() == "first\n"
-    os.chmod(target, 0o640)
-    write_atomic(target, "second ⫫\n")
-    assert target.read_text(encoding="utf-8") == "second ⫫\n"
-    assert stat.S_IMODE(target.stat().st_mode) == 0o640
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["plot.svg"]
-
-
-def test_write_atomic_leaves_old_file_on_failure(tmp_path: Path) -> None:
-    target = tmp_path / "keep.txt"
-    target.write_text("old")
-    with pytest.raises(UnicodeEncodeError):
-        write_atomic(target, "bad \udcff surrogate")
-    assert target.read_text() == "old"
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["keep.txt"]
 
 
 # --------------------------------------------------------------------------

@@ -6,13 +6,50 @@ import os
 import sys
 from argparse import Namespace
 
-from ..config import Settings, load_settings
+from ..config import Settings, SettingsFinder
 from ..findings import SEVERITY_RANK, Finding
 
 
+def finder_from(args: Namespace) -> SettingsFinder:
+    """Per-file settings: `--config`, `--no-config`, or the nearest `[tool.dagward]`."""
+    return SettingsFinder(
+        args.config,
+        getattr(args, "no_config", False),
+        args.enable,
+        args.disable,
+        args.fail_on,
+    )
+
+
 def settings_from(args: Namespace) -> Settings:
-    settings = load_settings(args.config)
-    return settings.with_overrides(args.enable, args.disable, args.fail_on)
+    """The settings for a command about one file: those found from that file."""
+    where = getattr(args, "file", None)
+    if where in (None, "-"):
+        where = getattr(args, "stdin_filename", None) or os.path.join(os.getcwd(), "-")
+    return finder_from(args).for_file(where)
+
+
+def same_file(a: str, b: str) -> bool:
+    """Whether two paths name one file (through links, `..` and hard links)."""
+    try:
+        return os.path.samefile(a, b)
+    except OSError:
+        return os.path.realpath(a) == os.path.realpath(b)
+
+
+def refuse_overwriting_inputs(outputs: list[str | None], inputs: list[str]) -> None:
+    """Exit 2 before anything runs when an output file is one of the input files."""
+    from ..errors import UsageProblem
+
+    for out in outputs:
+        if not out or out == "-":
+            continue
+        for given in inputs:
+            if given != "-" and os.path.isfile(given) and same_file(out, given):
+                raise UsageProblem(
+                    f"the output file {out} is one of the inputs ({given}); "
+                    "choose another output file (nothing was written)"
+                )
 
 
 def use_color(args: Namespace) -> bool:
@@ -31,7 +68,7 @@ def emit(args: Namespace, text: str) -> None:
         except OSError as e:
             from ..errors import UsageProblem
 
-            raise UsageProblem(f"cannot write {args.output}: {e.strerror}") from None
+            raise UsageProblem(f"cannot write {args.output}: {e.strerror or e}") from None
     else:
         sys.stdout.write(text)
 
@@ -39,6 +76,14 @@ def emit(args: Namespace, text: str) -> None:
 def exit_status(findings: list[Finding], fail_on: str) -> int:
     threshold = SEVERITY_RANK[fail_on]
     return 1 if any(SEVERITY_RANK[f.severity] >= threshold for f in findings) else 0
+
+
+def read_input(path: str) -> bytes:
+    """The bytes of a file, or of standard input for `-`."""
+    if path == "-":
+        return sys.stdin.buffer.read()
+    with open(path, "rb") as handle:
+        return handle.read()
 
 
 def load_clean(path: str, settings: Settings):

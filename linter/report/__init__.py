@@ -17,6 +17,7 @@ REPORTERS: dict[str, str] = {
     "json": "dagward.report.json_report",
     "sarif": "dagward.report.sarif",
     "github": "dagward.report.github",
+    "line": "dagward.report.line",
 }
 
 
@@ -27,6 +28,8 @@ class Report:
     color: bool = False
     quiet: bool = False
     repository_root: str | None = None  # for SARIF URIs
+    # text of files that are not on disk as checked (standard input), by file name
+    sources: dict[str, bytes] | None = None
 
 
 def counts(findings: list[Finding]) -> dict[str, int]:

@@ -9,9 +9,19 @@ Version 2.1.0" (2020). The log validates against the official JSON schema
   description = the prose of the rule's docstring, help = the whole docstring
   with its bad and good examples (plain text and Markdown), default level and
   whether the rule is on by default;
+  and a `helpUri` to the rule's section of docs/rules.md in the repository
+  (generated from the same docstrings; `dagward.report.ruledoc`); the driver's
+  `informationUri` is the project's page;
 * one result per finding: `ruleId`, `ruleIndex`, `level` (error, warning, or
   note for info), `message.text`, one physical location and the finding's
-  related places as `relatedLocations`;
+  related places as `relatedLocations`, each linked from the message text
+  (SARIF's embedded links, `[text](id)`, section 3.11.6);
+* `partialFingerprints["dagwardFinding/v1"]`: a hash of what the finding is
+  (rule, file, analysis, the message with numbers blanked, the text of the
+  source line) and, for identical ones, which occurrence in the file it is. It
+  does not contain line or column numbers, so a line inserted above leaves it
+  unchanged, and two findings on one line differ. Code-scanning services use it
+  to follow an alert from one revision to the next;
 * locations are URIs relative to the repository root (`git rev-parse
   --show-toplevel` from the current directory, else the current directory),
   percent-encoded, with `uriBaseId` `%SRCROOT%`; files outside the root get an
@@ -21,6 +31,7 @@ Version 2.1.0" (2020). The log validates against the official JSON schema
 
 from __future__ import annotations
 
+import hashlib
 import json
 import os
 import re
@@ -32,13 +43,18 @@ from urllib.parse import quote
 from ..findings import Finding, Related
 from ..model import Span
 from ..version import __version__
-from . import Report
+from . import Report, ruledoc
 
 SARIF_VERSION = "2.1.0"
 SARIF_SCHEMA_URI = (
     "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
 )
 SRCROOT = "%SRCROOT%"
+# The project's home and where its rule documentation lives (a branch, so the
+# links keep working from release to release).
+PROJECT_URL = "https://github.com/dagward/dagward"
+DOCS_BRANCH = "main"
+FINGERPRINT_KEY = "dagwardFinding/v1"
 LEVELS = {"error": "error", "warning": "warning", "info": "note"}
 
 
@@ -87,41 +103,10 @@ def artifact_location(file: str, root: Path) -> dict:
 
 # --- the rule catalogue ----------------------------------------------------------------
 
-_EXAMPLE_HEAD = re.compile(r"^(\w[\w ]*)::\s*$")
-# The rule examples carry `# expect: rule` annotations for the test suite; users
-# do not need them in the help text.
-_EXPECT = re.compile(r"[ \t]*# expect: [\w\-, ]+$", re.MULTILINE)
 
-
-def _doc_parts(doc: str) -> tuple[str, str]:
-    """(prose, markdown) of a rule docstring: the paragraphs before the examples, and
-    the whole docstring with its `Bad::`/`Good::` blocks turned into fenced code."""
-    lines = _EXPECT.sub("", doc or "").strip("\n").splitlines()
-    prose: list[str] = []
-    markdown: list[str] = []
-    seen_example = False
-    i = 0
-    while i < len(lines):
-        head = _EXAMPLE_HEAD.match(lines[i])
-        if not head:
-            markdown.append(lines[i])
-            if not seen_example:
-                prose.append(lines[i])
-            i += 1
-            continue
-        seen_example = True
-        i += 1
-        code: list[str] = []
-        while i < len(lines) and (not lines[i].strip() or lines[i].startswith(" ")):
-            code.append(lines[i][4:] if lines[i].startswith("    ") else lines[i].strip())
-            i += 1
-        while code and not code[0].strip():
-            code.pop(0)
-        while code and not code[-1].strip():
-            code.pop()
-        markdown += [f"**{head.group(1)}:**", "", "```", *code, "```", ""]
-    text = " ".join(" ".join(prose).split())
-    return text, "\n".join(markdown).strip() + "\n"
+def help_uri(rule_name: str) -> str:
+    """The rule's section of docs/rules.md (headings are rule names, so anchors are too)."""
+    return f"{PROJECT_URL}/blob/{DOCS_BRANCH}/{ruledoc.DOCS_PATH}#{rule_name}"
 
 
 def rule_descriptors() -> tuple[list[dict], dict[str, int]]:
@@ -129,18 +114,13 @@ def rule_descriptors() -> tuple[list[dict], dict[str, int]]:
 
     descriptors, index = [], {}
     for i, rule in enumerate(ALL_RULES):
-        prose, markdown = _doc_parts(rule.doc)
-        # the docstring opens with "name: summary."; the full description is the rest
-        prose = prose.removeprefix(f"{rule.name}:").strip()
-        prose = prose[:1].upper() + prose[1:]
         descriptor = {
             "id": rule.name,
             "shortDescription": {"text": rule.summary},
-            "fullDescription": {"text": prose or rule.summary},
-            "help": {
-                "text": _EXPECT.sub("", rule.doc or rule.summary).strip(),
-                "markdown": markdown,
-            },
+            # the docstring opens with "name: summary."; the full description is the rest
+            "fullDescription": {"text": ruledoc.description(rule)},
+            "helpUri": help_uri(rule.name),
+            "help": {"text": ruledoc.cleaned(rule), "markdown": ruledoc.parts(rule)[1]},
             "defaultConfiguration": {
                 "level": LEVELS[rule.severity],
                 "enabled": rule.enabled_by_default,
@@ -180,15 +160,80 @@ def _related(r: Related, i: int, root: Path) -> dict:
     }
 
 
-def result(f: Finding, root: Path, index: dict[str, int]) -> dict:
+_LINK_CHARS = re.compile(r"([\\\[\]])")
+_NUMBER = re.compile(r"\d+")
+
+
+def escape_message(text: str) -> str:
+    """Plain text safe inside a SARIF message with embedded links: `\\`, `[`, `]` escaped."""
+    return _LINK_CHARS.sub(r"\\\1", text)
+
+
+def message_text(f: Finding) -> str:
+    """The message, with each related place linked by its relatedLocations id."""
+    text = escape_message(f.message)
+    if f.related:
+        links = "; ".join(f"[{escape_message(r.message)}]({i})" for i, r in enumerate(f.related, 1))
+        text += f" (see {links})"
+    return text
+
+
+class SourceLines:
+    """The lines of the checked files, read once each (for fingerprints)."""
+
+    def __init__(self, given: dict[str, bytes] | None = None) -> None:
+        self._files: dict[str, list[str]] = {
+            name: data.decode("utf-8", errors="replace").splitlines()
+            for name, data in (given or {}).items()
+        }
+
+    def line(self, file: str, number: int) -> str:
+        if file not in self._files:
+            try:
+                with open(file, encoding="utf-8", errors="replace") as handle:
+                    self._files[file] = handle.read().splitlines()
+            except OSError:  # standard input, or gone since: the line text is unknown
+                self._files[file] = []
+        lines = self._files[file]
+        return lines[number - 1] if 0 < number <= len(lines) else ""
+
+
+def fingerprint_base(f: Finding, uri: str, source: SourceLines) -> str:
+    """What identifies a finding apart from where it is (see the module docstring)."""
+    line = " ".join(source.line(f.file, f.span.line).split())
+    # "already stated on line 3" changes when lines move; the numbers carry no identity
+    message = _NUMBER.sub("#", f.message)
+    return "\x1f".join((f.rule, uri, f.analysis or "", message, line))
+
+
+def fingerprints(
+    findings: list[Finding], root: Path, sources: dict[str, bytes] | None = None
+) -> list[str]:
+    source = SourceLines(sources)
+    seen: dict[str, int] = {}
+    out = []
+    for f in findings:
+        uri = artifact_location(f.file, root)["uri"]
+        base = fingerprint_base(f, uri, source)
+        # the same finding twice in a file: tell them apart by order of appearance
+        occurrence = seen.get(base, 0)
+        seen[base] = occurrence + 1
+        digest = hashlib.sha256(f"{base}\x1f{occurrence}".encode()).hexdigest()
+        out.append(digest[:32])
+    return out
+
+
+def result(f: Finding, root: Path, index: dict[str, int], fingerprint: str | None = None) -> dict:
     out: dict = {"ruleId": f.rule}
     if f.rule in index:
         out["ruleIndex"] = index[f.rule]
     out["level"] = LEVELS[f.severity]
-    out["message"] = {"text": f.message}
+    out["message"] = {"text": message_text(f)}
     out["locations"] = [{"physicalLocation": _physical(f.file, f.span, root)}]
     if f.related:
         out["relatedLocations"] = [_related(r, i, root) for i, r in enumerate(f.related, 1)]
+    if fingerprint is not None:
+        out["partialFingerprints"] = {FINGERPRINT_KEY: fingerprint}
     properties: dict = {}
     if f.analysis is not None:
         properties["analysis"] = f.analysis
@@ -205,6 +250,9 @@ def log(report: Report) -> dict:
     """The SARIF log as a dict (what `render` prints)."""
     root = repository_root(report.repository_root)
     descriptors, index = rule_descriptors()
+    # sorted as every reporter shows them, so "which occurrence" is well defined
+    findings = sorted(report.findings, key=Finding.sort_key)
+    prints = fingerprints(findings, root, report.sources)
     return {
         "$schema": SARIF_SCHEMA_URI,
         "version": SARIF_VERSION,
@@ -215,12 +263,15 @@ def log(report: Report) -> dict:
                         "name": "dagward",
                         "version": __version__,
                         "semanticVersion": __version__,
+                        "informationUri": PROJECT_URL,
                         "rules": descriptors,
                     }
                 },
                 "originalUriBaseIds": {SRCROOT: {"uri": root.as_uri() + "/"}},
                 "columnKind": "unicodeCodePoints",
-                "results": [result(f, root, index) for f in report.findings],
+                "results": [
+                    result(f, root, index, p) for f, p in zip(findings, prints, strict=True)
+                ],
             }
         ],
     }

@@ -40,4 +40,9 @@ def render(report: Report) -> str:
             lines.append(f"    {r.file}:{r.span.line}:{r.span.column}: {r.message}")
     if not report.quiet or report.findings:
         lines.append(summary(report))
+    if report.findings and not report.quiet:
+        # once per run, naming a rule that was found, so the hint can be pasted
+        lines.append(
+            f"what a rule means and how to fix it: dagward explain {report.findings[0].rule}"
+        )
     return "\n".join(lines) + ("\n" if lines else "")

@@ -43,7 +43,8 @@ import numpy as np
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent.parent))
 
-from dagward.stats import simulate_linear_gaussian, write_atomic  # noqa: E402
+from dagward.fileio import write_atomic  # noqa: E402
+from dagward.stats import simulate_linear_gaussian  # noqa: E402
 
 SEED = 20240611
 N = 2000
