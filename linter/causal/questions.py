@@ -220,7 +220,9 @@ class SelectionVerdict:
       Hernandez-Diaz & Robins 2004).  None when no Z was declared.
     * ``forbidden``: members of R on or after a causal path (each makes every
       set invalid).
-    * ``opened``: members of R with a path they open (given Z ∪ R).  Failures
+    * ``opened``: members of R with a path they open (given Z ∪ R), forbidden
+      members included (sound; a path is searched as for rule
+      ``collider-adjusted``).  Failures
       of members of Z are not listed here: they stay with the usual rules,
       evaluated with Z ∪ R as the conditioning set.
     * ``recoverable``: there is a measured set W, disjoint from R, that is a
@@ -433,8 +435,10 @@ def selection_verdict(
         S = Zs | R
         valid = is_valid_adjustment(G, X, Y, S)
         if not valid:
-            bad = {f.variable for f in forb_r}
-            rest = sorted(R - bad)
+            # Forbidden members are asked too: a restriction on a mediator can
+            # also open a path at a collider (the birth-weight paradox), and the
+            # message should show both.
+            rest = sorted(R)
             if rest:
                 for r, hit in collider_bias_paths(G, X, Y, S, rest).items():
                     if hit is not None:
