@@ -40,7 +40,7 @@ def measured(G, *unmeasured: str) -> frozenset[str]:
     return frozenset(v for v in G if not G.nodes[v].get("hidden") and v not in unmeasured)
 
 
-# ------------------------------------------------- selection bias (Hernan, Hernandez-Diaz & Robins 2004)
+# ---------------------------------- selection bias (Hernan, Hernandez-Diaz & Robins 2004)
 
 
 def test_selection_on_a_common_effect_of_exposure_and_outcome():
@@ -55,24 +55,38 @@ def test_selection_on_a_common_effect_of_exposure_and_outcome():
     # is the path the restriction opens
     assert v.forbidden == ()
     (o,) = v.opened
-    assert o.path == ("screen_use", "called_helpline", "insomnia") and o.collider == "called_helpline"
+    assert (
+        o.path == ("screen_use", "called_helpline", "insomnia") and o.collider == "called_helpline"
+    )
     assert not v.recoverable and not v.fixable
     # the restriction depends on the exposure directly: not a case-control design,
     # so the odds ratio does not survive either
     assert not v.odds_ratio.survives
     # with an effect, the restriction is also an effect of the outcome
-    G1 = diagram("screen_use -> called_helpline", "insomnia -> called_helpline", "screen_use -> insomnia")
-    v1 = selection_verdict(G1, {"screen_use"}, {"insomnia"}, set(), {"called_helpline"}, measured(G1))
+    G1 = diagram(
+        "screen_use -> called_helpline", "insomnia -> called_helpline", "screen_use -> insomnia"
+    )
+    v1 = selection_verdict(
+        G1, {"screen_use"}, {"insomnia"}, set(), {"called_helpline"}, measured(G1)
+    )
     (f,) = v1.forbidden
-    assert (f.variable, f.kind, f.via, f.path) == ("called_helpline", "outcome-descendant", "insomnia",
-                                                   ("insomnia", "called_helpline"))
+    assert (f.variable, f.kind, f.via, f.path) == (
+        "called_helpline",
+        "outcome-descendant",
+        "insomnia",
+        ("insomnia", "called_helpline"),
+    )
 
 
 def test_selection_on_a_descendant_of_the_common_effect():
     # Hernan et al. 2004, fig. 1b (from memory): selection S is an effect of the
     # collider C.  Scenario: only those of the helpline callers who were
     # referred to a clinic are in the data.
-    G = diagram("screen_use -> called_helpline", "insomnia -> called_helpline", "called_helpline -> referred")
+    G = diagram(
+        "screen_use -> called_helpline",
+        "insomnia -> called_helpline",
+        "called_helpline -> referred",
+    )
     v = selection_verdict(G, {"screen_use"}, {"insomnia"}, set(), {"referred"}, measured(G))
     assert v.valid is False
     (o,) = v.opened
@@ -85,8 +99,13 @@ def test_informative_loss_to_follow_up_is_corrected_through_a_measured_cause():
     # who stayed opens A -> C <- L <- U -> Y; adjusting for (or weighting by) L
     # closes it.  Scenario: a cycling-to-work scheme, staying in a follow-up,
     # knee pain, and an unmeasured joint frailty.
-    G = diagram("cycling -> stayed", "knee_pain_early -> stayed", "frailty -> knee_pain_early",
-                "frailty -> knee_pain_late", "cycling -> knee_pain_late")
+    G = diagram(
+        "cycling -> stayed",
+        "knee_pain_early -> stayed",
+        "frailty -> knee_pain_early",
+        "frailty -> knee_pain_late",
+        "cycling -> knee_pain_late",
+    )
     M = measured(G, "frailty")
     v = selection_verdict(G, {"cycling"}, {"knee_pain_late"}, set(), {"stayed"}, M)
     assert v.valid is False and not v.forbidden
@@ -114,7 +133,9 @@ def test_case_control_sampling_keeps_the_odds_ratio():
     # when selection depends on the outcome only, the odds ratio survives though
     # the risks do not.  Scenario: cases of hay fever and controls, sampled by
     # diagnosis; exposure: a garden near the home; confounder: rural living.
-    G = diagram("rural -> garden", "rural -> hay_fever", "garden -> hay_fever", "hay_fever -> sampled")
+    G = diagram(
+        "rural -> garden", "rural -> hay_fever", "garden -> hay_fever", "hay_fever -> sampled"
+    )
     v = selection_verdict(G, {"garden"}, {"hay_fever"}, {"rural"}, {"sampled"}, measured(G))
     assert v.valid is False and v.outcome_only
     assert v.forbidden[0].kind == "outcome-descendant"
@@ -136,9 +157,15 @@ def test_index_event_bias():
     # restricting to people who had a first event, caused by the exposure and by
     # an unmeasured risk factor of recurrence.  Scenario: a pollen allergy, a
     # first asthma attack, a genetic risk, and a second attack.
-    G = diagram("allergy -> first_attack", "genes -> first_attack", "genes -> second_attack",
-                "allergy -> second_attack")
-    v = selection_verdict(G, {"allergy"}, {"second_attack"}, set(), {"first_attack"}, measured(G, "genes"))
+    G = diagram(
+        "allergy -> first_attack",
+        "genes -> first_attack",
+        "genes -> second_attack",
+        "allergy -> second_attack",
+    )
+    v = selection_verdict(
+        G, {"allergy"}, {"second_attack"}, set(), {"first_attack"}, measured(G, "genes")
+    )
     assert v.valid is False
     assert v.opened[0].path == ("allergy", "first_attack", "genes", "second_attack")
     assert not v.fixable and not v.recoverable
@@ -150,10 +177,16 @@ def test_birth_weight_paradox_as_restriction_on_a_collider():
     # on the causal path and a collider with unmeasured causes of death, makes the
     # exposure look protective.  Scenario: maternal night shifts, small babies,
     # an unmeasured congenital anomaly, neonatal death.
-    G = diagram("night_shifts -> small_baby", "anomaly -> small_baby", "anomaly -> neonatal_death",
-                "small_baby -> neonatal_death", "night_shifts -> neonatal_death")
-    v = selection_verdict(G, {"night_shifts"}, {"neonatal_death"}, set(), {"small_baby"},
-                          measured(G, "anomaly"))
+    G = diagram(
+        "night_shifts -> small_baby",
+        "anomaly -> small_baby",
+        "anomaly -> neonatal_death",
+        "small_baby -> neonatal_death",
+        "night_shifts -> neonatal_death",
+    )
+    v = selection_verdict(
+        G, {"night_shifts"}, {"neonatal_death"}, set(), {"small_baby"}, measured(G, "anomaly")
+    )
     assert v.valid is False
     assert v.forbidden[0].kind == "mediator"
     assert v.forbidden[0].path == ("night_shifts", "small_baby", "neonatal_death")
@@ -172,10 +205,20 @@ def _mediation(with_induced: bool):
     # that the exposure affects.  Scenario: a school meal programme (exposure),
     # afternoon concentration (mediator), test score (outcome), household income
     # (baseline confounder) and, when present, breakfast skipping (L).
-    arrows = ["meals -> concentration", "concentration -> score", "meals -> score",
-              "income -> meals", "income -> concentration", "income -> score"]
+    arrows = [
+        "meals -> concentration",
+        "concentration -> score",
+        "meals -> score",
+        "income -> meals",
+        "income -> concentration",
+        "income -> score",
+    ]
     if with_induced:
-        arrows += ["meals -> skips_breakfast", "skips_breakfast -> concentration", "skips_breakfast -> score"]
+        arrows += [
+            "meals -> skips_breakfast",
+            "skips_breakfast -> concentration",
+            "skips_breakfast -> score",
+        ]
     return diagram(*arrows)
 
 
@@ -185,7 +228,11 @@ def test_mediation_without_exposure_induced_confounder_is_identified():
     assert v.identified and not v.induced
     bad = natural_effect_verdict(G, {"meals"}, {"concentration"}, {"score"}, set())
     assert [c.valid for c in bad.conditions] == [False, False, False]
-    assert [c.name for c in bad.conditions] == [EXPOSURE_OUTCOME, EXPOSURE_MEDIATOR, MEDIATOR_OUTCOME]
+    assert [c.name for c in bad.conditions] == [
+        EXPOSURE_OUTCOME,
+        EXPOSURE_MEDIATOR,
+        MEDIATOR_OUTCOME,
+    ]
     assert bad.conditions[2].path == ("concentration", "income", "score")
 
 
@@ -201,7 +248,9 @@ def test_mediation_with_exposure_induced_confounder_is_not_identified():
     assert i.to_outcome == ("skips_breakfast", "score")
     # adjusting for L satisfies the three conditions, yet the natural effects stay
     # unidentified: L is affected by the exposure
-    w = natural_effect_verdict(G, {"meals"}, {"concentration"}, {"score"}, {"income", "skips_breakfast"})
+    w = natural_effect_verdict(
+        G, {"meals"}, {"concentration"}, {"score"}, {"income", "skips_breakfast"}
+    )
     assert w.conditions[2].valid and w.induced and not w.identified
 
 
@@ -209,26 +258,42 @@ def test_exposure_induced_confounding_through_an_unmeasured_common_cause():
     # The <-> form (our extension, see linter/causal/questions.py): the exposure
     # affects L, L affects the mediator, and L shares an unmeasured cause with the
     # outcome.  Same scenario.
-    G = diagram("meals -> concentration", "concentration -> score", "meals -> skips_breakfast",
-                "skips_breakfast -> concentration", "skips_breakfast <-> score")
+    G = diagram(
+        "meals -> concentration",
+        "concentration -> score",
+        "meals -> skips_breakfast",
+        "skips_breakfast -> concentration",
+        "skips_breakfast <-> score",
+    )
     v = natural_effect_verdict(G, {"meals"}, {"concentration"}, {"score"}, set())
     (i,) = v.induced
-    assert i.to_outcome == ("skips_breakfast", hidden_node_name("skips_breakfast", "score"), "score")
+    assert i.to_outcome == (
+        "skips_breakfast",
+        hidden_node_name("skips_breakfast", "score"),
+        "score",
+    )
 
 
 def test_controlled_direct_effect_with_exposure_induced_confounder_needs_g_methods():
     # VanderWeele 2015, ch. 2 (from memory): the controlled direct effect stays
     # identified when L is measured, by g-methods over the joint exposure (A, M).
     G = _mediation(True)
-    v = controlled_direct_verdict(G, {"meals"}, {"concentration"}, {"score"}, {"income"}, measured(G))
+    v = controlled_direct_verdict(
+        G, {"meals"}, {"concentration"}, {"score"}, {"income"}, measured(G)
+    )
     assert not v.condition.valid
     assert v.sequential is not None and v.sequential.needs_g_methods
-    assert [s.covariates for s in v.sequential.stages] == [frozenset({"income"}), frozenset({"skips_breakfast"})]
+    assert [s.covariates for s in v.sequential.stages] == [
+        frozenset({"income"}),
+        frozenset({"skips_breakfast"}),
+    ]
     (fb,) = v.sequential.feedback
     assert (fb.variable, fb.earlier, fb.later) == ("skips_breakfast", "meals", "concentration")
     # without L a single set works: the mediator is not over-adjustment
     G0 = _mediation(False)
-    v0 = controlled_direct_verdict(G0, {"meals"}, {"concentration"}, {"score"}, {"income"}, measured(G0))
+    v0 = controlled_direct_verdict(
+        G0, {"meals"}, {"concentration"}, {"score"}, {"income"}, measured(G0)
+    )
     assert v0.condition.valid and v0.sequential is None
 
 
@@ -241,7 +306,12 @@ def _two_stage(with_u: bool):
     # sharing an unmeasured cause U (treatment-confounder feedback).  Scenario: two
     # rounds of a physiotherapy programme, pain score between them, mobility at
     # the end, unmeasured frailty.
-    arrows = ["physio_0 -> pain_1", "pain_1 -> physio_1", "physio_0 -> mobility", "physio_1 -> mobility"]
+    arrows = [
+        "physio_0 -> pain_1",
+        "pain_1 -> physio_1",
+        "physio_0 -> mobility",
+        "physio_1 -> mobility",
+    ]
     arrows += ["frailty -> pain_1", "frailty -> mobility"] if with_u else ["pain_1 -> mobility"]
     return diagram(*arrows)
 
@@ -263,8 +333,15 @@ def test_two_stage_treatment_with_feedback_needs_g_methods():
 def test_two_stage_treatment_with_unmeasured_confounding_of_the_second_stage():
     # What If, ch. 19 (from memory): if U also affects the later treatment,
     # sequential exchangeability fails and g-methods do not help either.
-    G = diagram("physio_0 -> pain_1", "pain_1 -> physio_1", "physio_0 -> mobility", "physio_1 -> mobility",
-                "frailty -> pain_1", "frailty -> mobility", "frailty -> physio_1")
+    G = diagram(
+        "physio_0 -> pain_1",
+        "pain_1 -> physio_1",
+        "physio_0 -> mobility",
+        "physio_1 -> mobility",
+        "frailty -> pain_1",
+        "frailty -> mobility",
+        "frailty -> physio_1",
+    )
     v = sequential_verdict(G, (("physio_0",), ("physio_1",)), {"mobility"}, measured(G, "frailty"))
     assert not v.sequential and not v.needs_g_methods
     assert [s.holds for s in v.stages] == [True, False]
@@ -273,14 +350,25 @@ def test_two_stage_treatment_with_unmeasured_confounding_of_the_second_stage():
 def test_stages_from_periods_follow_the_periods():
     G = _two_stage(True)
     assert stages_from_periods(G, {"physio_0", "physio_1"}, {"physio_0": 0, "physio_1": 2}) == (
-        ("physio_0",), ("physio_1",))
+        ("physio_0",),
+        ("physio_1",),
+    )
     # an exposure outside the periods: the implied order is used
-    assert stages_from_periods(G, {"physio_0", "physio_1"}, {"physio_1": 0}) == (("physio_0",), ("physio_1",))
+    assert stages_from_periods(G, {"physio_0", "physio_1"}, {"physio_1": 0}) == (
+        ("physio_0",),
+        ("physio_1",),
+    )
 
 
 def test_no_feedback_means_a_single_set_suffices():
     # Common practice: with only baseline confounding, ordinary adjustment works.
-    G = diagram("age -> physio_0", "age -> physio_1", "age -> mobility", "physio_0 -> physio_1",
-                "physio_0 -> mobility", "physio_1 -> mobility")
+    G = diagram(
+        "age -> physio_0",
+        "age -> physio_1",
+        "age -> mobility",
+        "physio_0 -> physio_1",
+        "physio_0 -> mobility",
+        "physio_1 -> mobility",
+    )
     v = sequential_verdict(G, (("physio_0",), ("physio_1",)), {"mobility"}, measured(G))
     assert v.sequential and v.single_set_exists and not v.needs_g_methods

@@ -129,7 +129,8 @@ def test_sets_given_an_empty_restriction_are_the_usual_minimal_sets(case):
 
     G, measured, X, Y, _, _ = case
     assert set(minimal_adjustment_sets_given(G, X, Y, measured, set())) == set(
-        minimal_adjustment_sets(G, X, Y, measured))
+        minimal_adjustment_sets(G, X, Y, measured)
+    )
 
 
 # ---------------------------------------------------------------- natural effects
@@ -179,8 +180,10 @@ def sequential_case(draw):
     G, names, measured = draw(random_dag(min_nodes=4, max_nodes=7))
     # exposures in index order (a topological order): stages by the implied order
     k = draw(st.integers(2, 3))
-    picks = sorted(draw(st.lists(st.sampled_from(names), min_size=k + 1, max_size=k + 1, unique=True)),
-                   key=names.index)
+    picks = sorted(
+        draw(st.lists(st.sampled_from(names), min_size=k + 1, max_size=k + 1, unique=True)),
+        key=names.index,
+    )
     *X, y = picks
     return G, measured, X, {y}
 
@@ -236,7 +239,9 @@ def dense_mediation_case(draw):
     G, names, measured = draw(random_dag(min_nodes=5, max_nodes=7, max_hidden=3, density=0.5))
     # roles in the diagram's order (exposure first, outcome last), so that the
     # mediators can lie between them
-    picks = sorted(draw(st.lists(st.sampled_from(names), min_size=4, max_size=4, unique=True)), key=names.index)
+    picks = sorted(
+        draw(st.lists(st.sampled_from(names), min_size=4, max_size=4, unique=True)), key=names.index
+    )
     X, M, Y = frozenset(picks[:1]), frozenset(picks[1:3]), frozenset(picks[3:])
     rest = sorted(measured - X - Y - M)
     Z = frozenset(draw(st.sets(st.sampled_from(rest), max_size=len(rest))) if rest else set())

@@ -35,8 +35,8 @@ from .adjustment import (
     proper_backdoor_skip,
 )
 from .dsep import kept_rows
-from .graph import _as_set, descendants, is_hidden
-from .indexed import Indexed, closure_rows, indexed
+from .graph import HIDDEN_PREFIX, _as_set, descendants, is_hidden
+from .indexed import Indexed, closure_rows, combine, graph_cache, indexed
 from .separators import _close_to, _separator_search, minimal_adjustment_sets
 
 Rows = Callable[[int], Sequence[int]]
@@ -44,9 +44,7 @@ Rows = Callable[[int], Sequence[int]]
 # ---------------------------------------------------------------- shared helpers
 
 
-def _connected(
-    children: Rows, parents: Rows, n: int, xs: Iterable[int], isy, inz, anc
-) -> bool:
+def _connected(children: Rows, parents: Rows, n: int, xs: Iterable[int], isy, inz, anc) -> bool:
     """Bayes-ball reachability (Shachter 1998) along the given rows: True when some
     variable marked in ``isy`` is d-connected to ``xs`` given the variables marked
     in ``inz`` (``anc`` = their ancestors in the same rows).  The two-stack loop of
@@ -98,12 +96,25 @@ def _connected(
     return False
 
 
-def _moral(parents: Rows, anc: bytearray, n: int) -> list[list[int]]:
+def _moral(
+    parents: Rows, anc: bytearray, n: int, gone: bytes | bytearray | None = None
+) -> list[list[int]]:
     """Moral graph of the subgraph induced by the variables marked in ``anc``
-    (Lauritzen et al. 1990), as neighbour lists over the index numbers."""
+    (Lauritzen et al. 1990), as neighbour lists over the index numbers, with the
+    variables marked in ``gone`` deleted afterwards (they are conditioned on):
+    marriages through a deleted child are kept, edges at a deleted vertex not."""
     nbrs: list[list[int]] = [[] for _ in range(n)]
     for v in compress(range(n), anc):
         ps = parents(v)
+        if gone is not None:
+            if gone[v]:
+                ps = [p for p in ps if not gone[p]]
+                for i, p in enumerate(ps):  # only the marriages survive
+                    for q in ps[i + 1 :]:
+                        nbrs[p].append(q)
+                        nbrs[q].append(p)
+                continue
+            ps = [p for p in ps if not gone[p]]
         for i, p in enumerate(ps):
             nbrs[v].append(p)
             nbrs[p].append(v)
@@ -113,12 +124,9 @@ def _moral(parents: Rows, anc: bytearray, n: int) -> list[list[int]]:
     return nbrs
 
 
-def _without(nbrs: list[list[int]], gone: bytes | bytearray) -> list[list[int]]:
-    """The neighbour lists with the marked vertices deleted (they are conditioned on)."""
-    return [[] if gone[v] else [u for u in row if not gone[u]] for v, row in enumerate(nbrs)]
-
-
-def _directed_path(ix: Indexed, starts: Iterable[int], goal, walls, forward: bool = True) -> list[str] | None:
+def _directed_path(
+    ix: Indexed, starts: Iterable[int], goal, walls, forward: bool = True
+) -> list[str] | None:
     """A shortest directed path (names, in arrow order) from one of ``starts`` to a
     variable marked in ``goal``, never entering a variable marked in ``walls``;
     ``forward`` False walks against the arrows (the path is still returned in
@@ -333,7 +341,7 @@ def minimal_adjustment_sets_given(
     ix = indexed(G)
     children, parents = kept_rows(ix, proper_backdoor_skip(X, cn))
     anc = closure_rows(parents, ix.ids(X | Y | F), bytearray(ix.n))
-    nbrs = _without(_moral(parents, anc, ix.n), ix.mask(F))
+    nbrs = _moral(parents, anc, ix.n, ix.mask(F))
     measured = set(measured)
     excluded = X | Y | F | forb
     removable = bytearray(ix.n)
@@ -395,16 +403,19 @@ def odds_ratio_survives(
     W = _as_set(G, W)
     if W & R or not is_valid_adjustment(G, X, Y, W):
         return False
-    ix = indexed(G)
+    return _x_separated_from_r(indexed(G), X, Y, R, W)
+
+
+def _x_separated_from_r(ix: Indexed, X, Y, R, W) -> bool:
     children, parents = ix.rows()
     inz = ix.mask(Y | W)
     anc = closure_rows(parents, ix.ids(Y | W), bytearray(ix.n))
     return not _connected(children, parents, ix.n, ix.ids(X), ix.mask(R), inz, anc)
 
 
-# How many minimal valid sets to try when looking for one under which the odds
-# ratio survives (each try is linear).
-ODDS_RATIO_TRIES = 20
+# How many minimal valid sets to try, after the declared one, when looking for a
+# set under which the odds ratio survives (each try is one linear search).
+ODDS_RATIO_TRIES = 5
 
 
 def selection_verdict(
@@ -473,7 +484,7 @@ def selection_verdict(
 
 
 def _collider_above(G: nx.DiGraph, path: list[str], R: set[str]) -> tuple[str, str] | None:
-    """(r, collider) for the first collider on ``path`` that is a member r of R or an ancestor of one."""
+    """(r, collider): the first collider on ``path`` that is in R or a cause of a member r."""
     succ = G._succ
     for i in range(1, len(path) - 1):
         c = path[i]
@@ -485,14 +496,13 @@ def _collider_above(G: nx.DiGraph, path: list[str], R: set[str]) -> tuple[str, s
 
 
 def _odds_ratio_search(G, X, Y, R, Z, measured) -> OddsRatio:
-    tried: list[frozenset[str]] = []
-    if Z is not None:
-        tried.append(frozenset(Z))
-    for W in tried:
-        if odds_ratio_survives(G, X, Y, R, W):
-            return OddsRatio(True, W)
+    """Z first (when valid), then up to ``ODDS_RATIO_TRIES`` minimal valid sets
+    (valid by construction, so only the separation is tested)."""
+    ix = indexed(G)
+    if Z is not None and odds_ratio_survives(G, X, Y, R, Z):
+        return OddsRatio(True, frozenset(Z))
     for W in minimal_adjustment_sets(G, X, Y, measured - R, max_sets=ODDS_RATIO_TRIES):
-        if W not in tried and odds_ratio_survives(G, X, Y, R, W):
+        if W != Z and _x_separated_from_r(ix, X, Y, R, W):
             return OddsRatio(True, W)
     return OddsRatio(False, None)
 
@@ -585,34 +595,72 @@ def confounding_condition(
     return ConfoundingCondition(name, frozenset(X), frozenset(Y), frozenset(Z), valid, forb, path)
 
 
+def _or(*marks: bytes | bytearray) -> bytearray:
+    """Marks set in any of ``marks`` (0/1 marks, combined as whole integers)."""
+    value = 0
+    for m in marks:
+        value |= int.from_bytes(m, "little")
+    return bytearray(value.to_bytes(len(marks[0]), "little"))
+
+
+def _hidden_ids(G: nx.DiGraph, ix: Indexed) -> list[int]:
+    """The hidden ``<->`` parents, as index numbers (kept with the graph's index)."""
+    cache = graph_cache(G)
+    kept = None if cache is None else cache.get("hidden_ids")
+    if kept is not None and kept[0] is ix:
+        return kept[1]
+    found = [
+        i
+        for i, name in enumerate(ix.names)
+        if name.startswith(HIDDEN_PREFIX) and is_hidden(G, name)
+    ]
+    if cache is not None:
+        cache["hidden_ids"] = (ix, found)
+    return found
+
+
+NOT = bytes(1 if i == 0 else 0 for i in range(256))  # bytes.translate: 0/1 marks flipped
+
+
 def _induced_masks(ix: Indexed, X, M, Y, G) -> tuple[bytearray, dict]:
-    """Marks of the exposure-induced mediator-outcome confounders and the masks
-    the path searches reuse.  Five closures and one pass over the hidden
-    parents: linear time."""
+    """Marks of the exposure-induced mediator-outcome confounders, and the masks
+    the path searches reuse.  Linear time.
+
+    A candidate L lies in A, the variables reached from X along arrows without
+    entering X or M.  Its directed routes into a mediator and to the outcome
+    stay inside De(X), so when no hidden ``<->`` parent touches A the routes
+    are searched inside De(X) only (usually a small part of a large diagram);
+    otherwise a hidden sibling w of L may lie anywhere, and the closures run
+    over the whole diagram.
+    """
     n = ix.n
+    succ, pred = ix.succ.__getitem__, ix.pred.__getitem__
     x_mask, m_mask, y_mask = ix.mask(X), ix.mask(M), ix.mask(Y)
-    xm = bytearray(a | b for a, b in zip(x_mask, m_mask, strict=True))
-    # A: reached from X along arrows without entering X or M
-    a_mark = bytearray(xm)
-    closure_rows(lambda v: ix.succ[v], [c for x in ix.ids(X) for c in ix.succ[x] if not xm[c]], a_mark)
-    a_mark = bytearray(a & (1 - w) for a, w in zip(a_mark, xm, strict=True))
-    # mediators that reach an outcome, and their ancestors (X a wall: a hidden
-    # sibling's route into M must not pass an exposure, which is set by hand)
-    anc_y = closure_rows(lambda v: ix.pred[v], ix.ids(Y), bytearray(n))
-    m_y = [i for i in ix.ids(M) if anc_y[i]]
-    x_walls = bytearray(x_mask)
-    to_m = closure_rows(lambda v: ix.pred[v], [m for m in m_y if not x_walls[m]], x_walls)
-    to_m = bytearray(t & (1 - x) for t, x in zip(to_m, x_mask, strict=True))
-    # B: reaches Y along arrows avoiding M and X
-    walls = bytearray(xm)
-    to_y = closure_rows(lambda v: ix.pred[v], [y for y in ix.ids(Y) if not walls[y]], walls)
-    to_y = bytearray(t & (1 - w) for t, w in zip(to_y, xm, strict=True))
+    xm = _or(x_mask, m_mask)
+    # A: reached from X along arrows without entering X or M (pre-marked walls)
+    a_mark = combine(
+        closure_rows(succ, [c for x in ix.ids(X) for c in ix.succ[x] if not xm[c]], bytearray(xm)),
+        xm,
+    )
+    hidden = [h for h in _hidden_ids(G, ix) if any(a_mark[c] for c in ix.succ[h])]
+    if hidden:
+        outside = bytes(n)  # whole diagram
+    else:
+        outside = closure_rows(succ, ix.ids(X), bytearray(n)).translate(NOT)  # not in De(X)
+    # mediators that reach an outcome; their ancestors with X a wall (a hidden
+    # sibling's route into M must not pass an exposure)
+    ys = [y for y in ix.ids(Y) if not outside[y]]
+    anc_y = closure_rows(pred, ys, bytearray(outside))
+    m_y = [i for i in ix.ids(M) if anc_y[i] and not outside[i]]
+    x_walls = _or(x_mask, outside)
+    to_m = combine(closure_rows(pred, m_y, bytearray(x_walls)), x_walls)
+    # reaches Y along arrows avoiding M and X
+    walls = _or(xm, outside)
+    to_y = combine(closure_rows(pred, ys, bytearray(walls)), walls)
     hid_m = bytearray(n)
     hid_y = bytearray(n)
-    for h in range(n):
-        if not is_hidden(G, ix.names[h]):
-            continue
-        kids = list(ix.succ[h])
+    for h in hidden:
+        kids = ix.succ[h]
         for a in kids:
             for b in kids:
                 if a != b:
@@ -621,14 +669,12 @@ def _induced_masks(ix: Indexed, X, M, Y, G) -> tuple[bytearray, dict]:
                     if to_y[b]:
                         hid_y[a] = 1
     bad = bytearray(n)
-    ym = bytearray(a | b for a, b in zip(xm, y_mask, strict=True))
     for v in compress(range(n), a_mark):
-        if ym[v]:
+        if y_mask[v]:
             continue
         if (to_m[v] and (to_y[v] or hid_y[v])) or (hid_m[v] and to_y[v]):
             bad[v] = 1
-    return bad, {"x": x_mask, "m": m_mask, "y": y_mask, "xm": xm, "to_m": to_m, "to_y": to_y,
-                 "m_y": m_y}
+    return bad, {"x": x_mask, "m": m_mask, "y": y_mask, "xm": xm, "m_y": m_y}
 
 
 def exposure_induced_confounders(
@@ -683,9 +729,13 @@ def induced_confounder_paths(
     M = _as_set(G, M)
     ix = indexed(G)
     bad, k = _induced_masks(ix, X, M, Y, G)
-    li = ix.index[L]
-    if not bad[li]:
+    if not bad[ix.index[L]]:
         raise ValueError(f"{L!r} is not an exposure-induced mediator-outcome confounder")
+    return _induced_paths(G, ix, X, k, L)
+
+
+def _induced_paths(G, ix: Indexed, X, k: dict, L: str) -> InducedConfounder:
+    li = ix.index[L]
     goal = bytearray(ix.n)
     goal[li] = 1
     head = _directed_path(ix, ix.ids(X), goal, bytearray(k["xm"]), forward=True)
@@ -723,7 +773,9 @@ def natural_effect_verdict(
         confounding_condition(G, EXPOSURE_MEDIATOR, X, M, C),
         confounding_condition(G, MEDIATOR_OUTCOME, M, Y, C | X),
     )
-    induced = tuple(induced_confounder_paths(G, X, M, Y, L) for L in exposure_induced_confounders(G, X, M, Y))
+    ix = indexed(G)
+    bad, k = _induced_masks(ix, X, M, Y, G)
+    induced = tuple(_induced_paths(G, ix, X, k, L) for L in sorted(compress(ix.names, bad)))
     cn = _cn_cached(G, X, Y)
     return NaturalEffectVerdict(_sorted(M), conditions, induced, _sorted(M - cn))
 
@@ -796,7 +848,9 @@ def implied_stages(G: nx.DiGraph, X: Iterable[str]) -> tuple[tuple[str, ...], ..
     above: dict[str, list[str]] = {}
     for x in X:
         anc = closure_rows(lambda v: ix.pred[v], [ix.index[x]], bytearray(ix.n))
-        above[x] = [ix.names[i] for i in compress(range(ix.n), anc) if x_mask[i] and ix.names[i] != x]
+        above[x] = [
+            ix.names[i] for i in compress(range(ix.n), anc) if x_mask[i] and ix.names[i] != x
+        ]
     level: dict[str, int] = {}
     # Iterative longest-path levels over the exposures' ancestry (a DAG).
     pending = sorted(X, key=lambda x: len(above[x]))
@@ -901,7 +955,9 @@ def sequential_verdict(
     ix = indexed(G)
     n = ix.n
     single = adjustment_exists(G, X, Y, measured)
-    meas = ix.mask(v for v in measured if v in ix.index)
+    meas = ix.mask(
+        measured if ix.index.keys() >= measured else (v for v in measured if v in ix.index)
+    )
     y_mask = ix.mask(Y)
     x_all = ix.mask(X)
     out: list[Stage] = []
@@ -931,7 +987,7 @@ def sequential_verdict(
         forced = bytearray(n)
         for v in earlier | chosen:
             forced[v] = 1
-        nbrs = _without(_moral(pars, anc, n), forced)
+        nbrs = _moral(pars, anc, n, forced)
         removable = bytearray(a & (1 - f) for a, f in zip(allowed, forced, strict=True))
         sep = _close_to(nbrs, xk, ix.ids(Y), removable)
         assert sep is not None  # C_k* passes, and it holds the forced variables
@@ -956,8 +1012,15 @@ def _feedback(G, ix: Indexed, stage_sets, stages: list[Stage], Y) -> tuple[Feedb
                 continue
             later = ix.mask(stage_sets[k])
             tail = _directed_path(ix, [ix.index[v]], later, bytes(ix.n))
-            found.append(Feedback(v, head[0], tail[-1] if tail else sorted(stage_sets[k])[0],
-                                  tuple(head), None if tail is None else tuple(tail)))
+            found.append(
+                Feedback(
+                    v,
+                    head[0],
+                    tail[-1] if tail else sorted(stage_sets[k])[0],
+                    tuple(head),
+                    None if tail is None else tuple(tail),
+                )
+            )
     return tuple(found)
 
 

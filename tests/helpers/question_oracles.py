@@ -42,7 +42,9 @@ def oracle_sets_given(G, X, Y, R, measured) -> set[frozenset]:
 def oracle_recoverable(G, X, Y, R, measured) -> bool:
     """Some measured W outside X, Y, R: valid for (X, Y) and Y d-separated from R given X ∪ W."""
     pool = set(measured) - X - Y - R
-    return any(oracle_valid(G, X, Y, W) and oracle_d_separated(G, Y, R, X | W) for W in subsets(pool))
+    return any(
+        oracle_valid(G, X, Y, W) and oracle_d_separated(G, Y, R, X | W) for W in subsets(pool)
+    )
 
 
 def oracle_recovery_ok(G, X, Y, R, W) -> bool:
@@ -86,7 +88,9 @@ def oracle_induced(G, X, M, Y) -> set[str]:
         dir_y = bool(directed_paths(G, {L}, Y, avoid=X | M))
         sibs = {w for h in G.predecessors(L) if is_hidden(G, h) for w in G.successors(h) if w != L}
         hid_m = any(w not in X and directed_paths(G, {w}, reaches_y, avoid=X) for w in sibs)
-        hid_y = any(w not in X and w not in M and directed_paths(G, {w}, Y, avoid=X | M) for w in sibs)
+        hid_y = any(
+            w not in X and w not in M and directed_paths(G, {w}, Y, avoid=X | M) for w in sibs
+        )
         if (dir_m and (dir_y or hid_y)) or (hid_m and dir_y):
             out.add(L)
     return out
