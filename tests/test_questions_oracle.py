@@ -18,6 +18,7 @@ from helpers.question_oracles import (
     allowed_at,
     directed_paths,
     oracle_induced,
+    oracle_natural_covariates_exist,
     oracle_odds_ratio_ok,
     oracle_recoverable,
     oracle_recovery_ok,
@@ -141,7 +142,7 @@ def test_sets_given_an_empty_restriction_are_the_usual_minimal_sets(case):
 def test_natural_effects_match_oracle(case):
     G, measured, X, Y, M, Z = case
     note(f"edges={sorted(G.edges)} X={X} Y={Y} M={M} Z={Z}")
-    v = natural_effect_verdict(G, X, M, Y, Z)
+    v = natural_effect_verdict(G, X, M, Y, Z, measured)
     names = [c.name for c in v.conditions]
     assert names == [EXPOSURE_OUTCOME, EXPOSURE_MEDIATOR, MEDIATOR_OUTCOME]
     expected = [oracle_valid(G, X, Y, Z), oracle_valid(G, X, M, Z), oracle_valid(G, M, Y, Z | X)]
@@ -170,6 +171,17 @@ def test_natural_effects_match_oracle(case):
     assert v.identified == (all(expected) and not induced)
     cn = {n for p in simple_paths(G, X, Y) if causal(G, p) for n in p[1:]}
     assert set(v.not_mediators) == M - cn
+    # pre-exposure covariates meeting all three conditions: exact over the pool
+    de_x = set(X).union(*(nx.descendants(G, x) for x in X))
+    pool = set(measured) - de_x - M - Y - oracle_forbidden(G, M, Y)
+    assert (v.covariates is not None) == oracle_natural_covariates_exist(G, X, M, Y, pool)
+    if v.covariates is not None:
+        C = v.covariates
+        assert C <= pool
+        assert (
+            oracle_valid(G, X, Y, C) and oracle_valid(G, X, M, C) and oracle_valid(G, M, Y, C | X)
+        )
+    assert v.identifiable == (v.covariates is not None and not induced)
 
 
 # ---------------------------------------------------------------- sequential

@@ -564,17 +564,29 @@ class NaturalEffectVerdict:
     any one makes natural effects unidentified whatever is adjusted (Avin,
     Shpitser & Pearl 2005, "Identifiability of path-specific effects",
     IJCAI).  ``not_mediators``: listed mediators that lie on no causal path
-    from X to Y.  ``identified``: every condition holds and nothing is induced.
+    from X to Y.  ``covariates``: a set of measured pre-exposure covariates
+    meeting all three conditions (see :func:`natural_effect_covariates`), or
+    None when there is none.  ``conditions`` is empty when no Z was declared.
     """
 
     mediators: tuple[str, ...]
     conditions: tuple[ConfoundingCondition, ...]
     induced: tuple[InducedConfounder, ...]
     not_mediators: tuple[str, ...]
+    covariates: frozenset[str] | None
 
     @property
-    def identified(self) -> bool:
+    def identified(self) -> bool | None:
+        """The declared set meets the three conditions and nothing is induced
+        (None when no set was declared)."""
+        if not self.conditions:
+            return None
         return all(c.valid for c in self.conditions) and not self.induced
+
+    @property
+    def identifiable(self) -> bool:
+        """Some measured pre-exposure set would do, and nothing is induced."""
+        return self.covariates is not None and not self.induced
 
 
 def confounding_condition(
@@ -751,15 +763,59 @@ def _induced_paths(G, ix: Indexed, X, k: dict, L: str) -> InducedConfounder:
     return InducedConfounder(L, tuple(head), tuple(to_m), tuple(to_y))
 
 
+def natural_effect_covariates(
+    G: nx.DiGraph, X: Iterable[str], M: Iterable[str], Y: Iterable[str], measured: Iterable[str]
+) -> frozenset[str] | None:
+    """A set C of measured pre-exposure covariates meeting the three conditions
+    (C valid for X -> Y, C valid for X -> M, C ∪ X valid for M -> Y), or None.
+
+    The pool: measured variables that are not descendants of X (VanderWeele &
+    Vansteelandt 2009 take C unaffected by the exposure), outside X, M, Y and
+    forb(M, Y).  Over that pool the answer is exact: the three conditions are
+    separations whose canonical sets (van der Zander, Liskiewicz & Textor
+    2019) are all An(X ∪ M ∪ Y) ∩ pool, because the arrows the criteria cut
+    leave exposures or mediators, and ancestors through them are ancestors of
+    X ∪ M already; so some C in the pool works iff that one set does.  It is
+    returned as is (not minimal).  Four linear searches.
+    """
+    X, Y = _roles(G, X, Y)
+    M = _as_set(G, M)
+    if not M or M & (X | Y):
+        raise ValueError("mediators must be non-empty and apart from exposures and outcomes")
+    ix = indexed(G)
+    de_x = _descendants_cached(G, X)
+    forb_my = _forbidden_cached(G, M, Y)
+    measured = frozenset(measured)
+    anc = closure_rows(ix.pred.__getitem__, ix.ids(X | M | Y), bytearray(ix.n))
+    excluded = X | M | Y
+    C = frozenset(
+        name
+        for name in compress(ix.names, anc)
+        if name in measured and name not in de_x and name not in excluded and name not in forb_my
+    )
+    ok = (
+        is_valid_adjustment(G, X, Y, C)
+        and is_valid_adjustment(G, X, M, C)
+        and is_valid_adjustment(G, M, Y, C | X)
+    )
+    return C if ok else None
+
+
 def natural_effect_verdict(
-    G: nx.DiGraph, X: Iterable[str], M: Iterable[str], Y: Iterable[str], Z: Iterable[str]
+    G: nx.DiGraph,
+    X: Iterable[str],
+    M: Iterable[str],
+    Y: Iterable[str],
+    Z: Iterable[str] | None,
+    measured: Iterable[str] | None = None,
 ) -> NaturalEffectVerdict:
     """The three confounding conditions and the exposure-induced confounders for
     natural direct and indirect effects (see :class:`NaturalEffectVerdict`).
 
     Z minus the mediators is the covariate set (a mediator listed in both is
-    the mediator, not a covariate).  Linear time plus one linear search per
-    induced confounder for its paths.
+    the mediator, not a covariate); with Z None only the induced confounders
+    (and, given ``measured``, the covariates) are reported.  Linear time plus
+    one linear search per induced confounder for its paths.
     """
     X, Y = _roles(G, X, Y)
     M = _as_set(G, M)
@@ -767,17 +823,20 @@ def natural_effect_verdict(
         raise ValueError("natural effects need at least one mediator")
     if M & (X | Y):
         raise ValueError("mediators overlap exposures or outcomes")
-    C = _as_set(G, Z) - M
-    conditions = (
-        confounding_condition(G, EXPOSURE_OUTCOME, X, Y, C),
-        confounding_condition(G, EXPOSURE_MEDIATOR, X, M, C),
-        confounding_condition(G, MEDIATOR_OUTCOME, M, Y, C | X),
-    )
+    conditions: tuple[ConfoundingCondition, ...] = ()
+    if Z is not None:
+        C = _as_set(G, Z) - M
+        conditions = (
+            confounding_condition(G, EXPOSURE_OUTCOME, X, Y, C),
+            confounding_condition(G, EXPOSURE_MEDIATOR, X, M, C),
+            confounding_condition(G, MEDIATOR_OUTCOME, M, Y, C | X),
+        )
     ix = indexed(G)
     bad, k = _induced_masks(ix, X, M, Y, G)
     induced = tuple(_induced_paths(G, ix, X, k, L) for L in sorted(compress(ix.names, bad)))
     cn = _cn_cached(G, X, Y)
-    return NaturalEffectVerdict(_sorted(M), conditions, induced, _sorted(M - cn))
+    covariates = None if measured is None else natural_effect_covariates(G, X, M, Y, measured)
+    return NaturalEffectVerdict(_sorted(M), conditions, induced, _sorted(M - cn), covariates)
 
 
 # ---------------------------------------------------------------- sequential exposures
@@ -1089,6 +1148,7 @@ __all__ = [
     "implied_stages",
     "induced_confounder_paths",
     "minimal_adjustment_sets_given",
+    "natural_effect_covariates",
     "natural_effect_verdict",
     "odds_ratio_survives",
     "recovery_set",

@@ -96,6 +96,14 @@ def oracle_induced(G, X, M, Y) -> set[str]:
     return out
 
 
+def oracle_natural_covariates_exist(G, X, M, Y, pool) -> bool:
+    """Some C in the pool: valid for X -> Y and X -> M, and C ∪ X valid for M -> Y."""
+    return any(
+        oracle_valid(G, X, Y, C) and oracle_valid(G, X, M, C) and oracle_valid(G, M, Y, C | X)
+        for C in subsets(pool)
+    )
+
+
 # ---------------------------------------------------------------- sequential
 
 
