@@ -141,6 +141,7 @@ def test_case_control_sampling_keeps_the_odds_ratio():
     assert v.forbidden[0].kind == "outcome-descendant"
     assert not v.recoverable
     assert v.odds_ratio.survives and v.odds_ratio.adjusted == frozenset({"rural"})
+    assert v.case_control
 
 
 def test_berkson_bias_among_hospital_patients():
@@ -372,3 +373,18 @@ def test_no_feedback_means_a_single_set_suffices():
     )
     v = sequential_verdict(G, (("physio_0",), ("physio_1",)), {"mobility"}, measured(G))
     assert v.sequential and v.single_set_exists and not v.needs_g_methods
+
+
+def test_overlapping_roles_are_refused():
+    import pytest
+
+    G = _two_stage(True)
+    M = measured(G, "frailty")
+    with pytest.raises(ValueError):
+        selection_verdict(G, {"physio_0"}, {"mobility"}, set(), {"mobility"}, M)
+    with pytest.raises(ValueError):
+        natural_effect_verdict(G, {"physio_0"}, {"physio_0"}, {"mobility"}, set())
+    with pytest.raises(ValueError):
+        controlled_direct_verdict(G, {"physio_0"}, set(), {"mobility"}, set(), M)
+    with pytest.raises(ValueError):
+        sequential_verdict(G, [("physio_0",), ("physio_0",)], {"mobility"}, M)

@@ -121,6 +121,9 @@ def test_selection_matches_oracle(case):
     descendants_of_y = set(Y).union(*(nx.descendants(G, y) for y in Y))
     assert v.outcome_only == (R <= descendants_of_y)
     assert v.caused_by_restriction == bool(v.forbidden or v.opened)
+    assert v.case_control == (v.outcome_only and v.odds_ratio.survives)
+    if v.valid:  # nothing is blamed on a restriction that biases nothing
+        assert not v.caused_by_restriction
 
 
 @SOME

@@ -261,6 +261,12 @@ class SelectionVerdict:
     odds_ratio: OddsRatio
 
     @property
+    def case_control(self) -> bool:
+        """Restriction on the outcome alone: every member of R is an effect of an
+        outcome and the odds ratio survives (the case-control situation)."""
+        return self.outcome_only and self.odds_ratio.survives
+
+    @property
     def caused_by_restriction(self) -> bool:
         """The restriction itself makes the estimate biased (rule ``selection-bias``)."""
         return bool(self.forbidden or self.opened)
