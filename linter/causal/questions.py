@@ -162,10 +162,6 @@ def _directed_path(
     return list(reversed(names)) if forward else names
 
 
-def _mark(ix: Indexed, nodes: Iterable[str]) -> bytearray:
-    return ix.mask(nodes)
-
-
 def _sorted(nodes: Iterable[str]) -> tuple[str, ...]:
     return tuple(sorted(nodes))
 
@@ -518,6 +514,7 @@ def _odds_ratio_search(G, X, Y, R, Z, measured) -> OddsRatio:
 EXPOSURE_OUTCOME = "exposure-outcome"
 EXPOSURE_MEDIATOR = "exposure-mediator"
 MEDIATOR_OUTCOME = "mediator-outcome"
+JOINT_EXPOSURE = "joint-exposure"  # the controlled direct effect's one question
 
 
 @dataclass(frozen=True)
@@ -1093,12 +1090,13 @@ def _feedback(G, ix: Indexed, stage_sets, stages: list[Stage], Y) -> tuple[Feedb
 class ControlledDirectVerdict:
     """The controlled direct effect: Z (minus the mediators) judged as an
     adjustment set for the joint exposure X ∪ M (Robins & Greenland 1992;
-    Pearl 2001).  ``condition`` is that adjustment question;
+    Pearl 2001).  ``condition`` is that adjustment question (None when no Z
+    was declared);
     ``sequential`` the sequential criterion over the stages X, then M (None
     when a single valid set exists, so it is not needed)."""
 
     mediators: tuple[str, ...]
-    condition: ConfoundingCondition
+    condition: ConfoundingCondition | None
     sequential: SequentialVerdict | None
 
 
@@ -1122,9 +1120,10 @@ def controlled_direct_verdict(
     if M & (X | Y):
         raise ValueError("mediators overlap exposures or outcomes")
     measured = frozenset(measured)
-    C = set() if Z is None else _as_set(G, Z) - M
     joint = X | M
-    cond = confounding_condition(G, "joint-exposure", joint, Y, C)
+    cond = (
+        None if Z is None else confounding_condition(G, JOINT_EXPOSURE, joint, Y, _as_set(G, Z) - M)
+    )
     seq = None
     if not adjustment_exists(G, joint, Y, measured):
         stages = [tuple(sorted(X)), *implied_stages(G, M)]
@@ -1135,6 +1134,7 @@ def controlled_direct_verdict(
 __all__ = [
     "EXPOSURE_MEDIATOR",
     "EXPOSURE_OUTCOME",
+    "JOINT_EXPOSURE",
     "MEDIATOR_OUTCOME",
     "ConfoundingCondition",
     "ControlledDirectVerdict",
