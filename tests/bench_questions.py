@@ -26,7 +26,7 @@ sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
 
 import networkx as nx  # noqa: E402
 
-from linter.causal import (  # noqa: E402
+from dagward.causal import (  # noqa: E402
     adjustment_exists,
     collider_bias_paths,
     confounding_path,
@@ -36,7 +36,7 @@ from linter.causal import (  # noqa: E402
     minimal_adjustment_sets,
     open_noncausal_path,
 )
-from linter.causal.questions import (  # noqa: E402
+from dagward.causal.questions import (  # noqa: E402
     controlled_direct_verdict,
     natural_effect_verdict,
     selection_verdict,

@@ -6,8 +6,8 @@ from __future__ import annotations
 
 import networkx as nx
 
-from linter.causal import hidden_node_name
-from linter.causal.questions import (
+from dagward.causal import hidden_node_name
+from dagward.causal.questions import (
     EXPOSURE_MEDIATOR,
     EXPOSURE_OUTCOME,
     MEDIATOR_OUTCOME,

@@ -29,7 +29,7 @@ from helpers.question_oracles import (
 )
 from hypothesis import HealthCheck, given, note, settings
 from hypothesis import strategies as st
-from test_causal_oracle import (
+from helpers.oracle import (
     blocked,
     causal,
     collider_reaching,
@@ -40,8 +40,8 @@ from test_causal_oracle import (
     simple_paths,
 )
 
-from linter.causal import collider_bias_paths, is_hidden
-from linter.causal.questions import (
+from dagward.causal import collider_bias_paths, is_hidden
+from dagward.causal.questions import (
     EXPOSURE_MEDIATOR,
     EXPOSURE_OUTCOME,
     MEDIATOR_OUTCOME,
@@ -129,7 +129,7 @@ def test_selection_matches_oracle(case):
 @SOME
 @given(question_case(extra=2))
 def test_sets_given_an_empty_restriction_are_the_usual_minimal_sets(case):
-    from linter.causal import minimal_adjustment_sets
+    from dagward.causal import minimal_adjustment_sets
 
     G, measured, X, Y, _, _ = case
     assert set(minimal_adjustment_sets_given(G, X, Y, measured, set())) == set(

@@ -2,14 +2,14 @@
 effects, sequential (time-varying) exposures.
 
 Pure functions over the diagram's ``networkx.DiGraph`` (hidden ``<->``
-parents included, see linter.causal.graph); no I/O and no findings.  Each
+parents included, see dagward.causal.graph); no I/O and no findings.  Each
 question returns a frozen dataclass that says which condition fails, for
 which variable and along which path, so that messages can be built from data.
 Every search is iterative and runs over the integer index of
-linter.causal.indexed; the costs are stated per function (V variables, E
+dagward.causal.indexed; the costs are stated per function (V variables, E
 arrows, k the number of stages or of restriction variables).
 
-Notation as in linter.causal.adjustment: X exposures, Y outcomes, Z the
+Notation as in dagward.causal.adjustment: X exposures, Y outcomes, Z the
 declared adjustment set, cn(X, Y) the proper causal nodes, forb(X, Y) their
 descendants, "valid" the adjustment criterion (Shpitser, VanderWeele &
 Robins 2010; Perkovic et al. 2018).
@@ -48,7 +48,7 @@ def _connected(children: Rows, parents: Rows, n: int, xs: Iterable[int], isy, in
     """Bayes-ball reachability (Shachter 1998) along the given rows: True when some
     variable marked in ``isy`` is d-connected to ``xs`` given the variables marked
     in ``inz`` (``anc`` = their ancestors in the same rows).  The two-stack loop of
-    linter.causal.dsep.connected_marks, with rows passed in so that graphs with
+    dagward.causal.dsep.connected_marks, with rows passed in so that graphs with
     arrows cut into some variables (the sequential criterion) need no copy."""
     seen_up = bytearray(n)
     seen_down = bytearray(n)
@@ -331,7 +331,7 @@ def minimal_adjustment_sets_given(
     Textor 2019, separators containing a given set), and there they are the
     minimal vertex separators of the moral graph of that ancestral set with
     the forced vertices deleted (Lauritzen et al. 1990).  Listed with
-    polynomial delay by the separator search of linter.causal.separators.
+    polynomial delay by the separator search of dagward.causal.separators.
     Ancestors of ``forced`` are the same in G and in the proper back-door
     graph because a forced variable is not forbidden.
     """

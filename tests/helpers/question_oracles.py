@@ -4,7 +4,7 @@ from the definitions by enumerating paths and subsets (small graphs only).
 Definitions and sources are those of linter/causal/questions.py; here nothing
 of the library is used except the hidden-node convention, and d-separation,
 validity and the forbidden set come from the path-enumerating oracles of
-tests/test_causal_oracle.py.
+tests/helpers/oracle.py.
 """
 
 from __future__ import annotations
@@ -12,7 +12,7 @@ from __future__ import annotations
 from itertools import combinations
 
 import networkx as nx
-from test_causal_oracle import oracle_d_separated, oracle_forbidden, oracle_valid
+from helpers.oracle import oracle_d_separated, oracle_forbidden, oracle_valid
 
 
 def subsets(pool):
