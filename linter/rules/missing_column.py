@@ -64,6 +64,10 @@ def _needed(ctx: Context) -> dict[str, Analysis | None]:
     if diagram.analyses:
         for analysis in diagram.analyses:
             for entry in analysis.entries:
+                if entry.key == "restricted":
+                    # data restricted on a variable often lack it as a column (it
+                    # would hold one value): that is not a missing column
+                    continue
                 for n in entry.names:
                     if n.text in diagram.measured:
                         needed.setdefault(n.text, analysis)
