@@ -24,6 +24,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--min-effect", type=float, default=0.1, help="smallest |partial correlation| "
                    "worth reporting (with --data)")  # fmt: skip
     p.add_argument("--method", choices=("pearson", "spearman"), default="pearson")
+    from ..data import add_reading_arguments
+
+    add_reading_arguments(p)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -34,9 +37,9 @@ def run(args: argparse.Namespace) -> int:
         sys.stderr.write(f"dagward: no .dag files found in {where}\n")
     table, options = None, None
     if args.data:
-        from ..data import DataOptions, load_data
+        from ..data import DataOptions, load_data, reading_options
 
-        table = load_data(args.data)
+        table = load_data(args.data, reading_options(args, settings))
         options = DataOptions(args.alpha, args.min_effect, args.method, args.data)
     findings = []
     for file in files:
