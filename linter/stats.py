@@ -594,7 +594,7 @@ def _check_widths(name: str, lines: Iterable[str], sep: str) -> tuple[list[str],
                 hint = "; the separator is likely wrong: set it with --sep"
             raise DataError(f"{name}: line {reader.line_num} has {len(row)} {what} where "
                             f"{expected} are expected; the header names {width} {columns} "
-                            f"(separator: {SEPARATOR_NAMES.get(sep, repr(sep))}){hint}")  # fmt: skip
+                            f"(separator: {SEPARATOR_NAMES.get(sep, repr(sep))}){hint}")
     except csv.Error as exc:
         raise DataError(f"{name}: malformed CSV ({exc})") from exc
     return stripped, bool(trailing)
@@ -1015,7 +1015,7 @@ def _g_test(table: Table, ind: Independence, rows: np.ndarray) -> _Raw:
         strata = int(sc.max() + 1)
         return _untested("g-test", n, f"too few rows for the G-test: {n} rows for {cells:,} "
                          f"cells ({int(xc.max() + 1)} x {int(yc.max() + 1)} levels in "
-                         f"{strata:,} strata), fewer than {G_TEST_MIN_PER_CELL} a cell")  # fmt: skip
+                         f"{strata:,} strata), fewer than {G_TEST_MIN_PER_CELL} a cell")
     g, df, p = _g_from_codes(xc, yc, sc)
     if df == 0:
         return _untested("g-test", n, "no stratum of the conditioning set shows two levels"

@@ -1,13 +1,15 @@
 """missing-column: a measured variable that the analysis needs is not in the data.
 
 With `--data`, every measured variable used by an analysis (its `exposure:`,
-`outcome:` and `adjust:` names) must be a column of the data file, spelled
-exactly as in the diagram. In a file with no analysis, the variables of the
-implied independencies must be columns instead. The finding points at the
-variable's first appearance in the file and suggests close column names
-(a different case, a typo). When no needed variable at all is a column, the
-message adds that the separator is the likely cause (set it with `--sep`). Unmeasured variables are never expected in the
-data. Rename the column or the variable so that they match.
+`outcome:`, `adjust:` and `mediator:` names) must be a column of the data
+file, spelled exactly as in the diagram. (`restricted:` names are not: data
+restricted on a variable often lack it, since it would hold one value.) In a
+file with no analysis, the variables of the implied independencies must be
+columns instead. The finding points at the variable's first appearance in the
+file and suggests close column names (a different case, a typo). When no
+needed variable at all is a column, the message adds that the separator is the
+likely cause (set it with `--sep`). Unmeasured variables are never expected in
+the data. Rename the column or the variable so that they match.
 
 Data::
 
