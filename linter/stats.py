@@ -719,8 +719,10 @@ def _row_lines(lines: Iterable[str], sep: str) -> list[int]:
     return out
 
 
-def _settle_column(column: str, series: pd.Series, decimal: str, force_numeric: bool,
-                   line_of_row: Callable[[], list[int]]) -> tuple[pd.Series | None, ReadNote | None]:
+def _settle_column(
+    column: str, series: pd.Series, decimal: str, force_numeric: bool,
+    line_of_row: Callable[[], list[int]],
+) -> tuple[pd.Series | None, ReadNote | None]:  # fmt: skip
     """A text column: numbers when most of its cells are (or when forced), else None.
 
     Returns (the numeric column or None to keep it as categories, a note on the
