@@ -357,7 +357,9 @@ class ReadNote:
     ``kind``: ``"format"`` (the separator and decimal mark were detected),
     ``"text-in-numeric"`` (a numeric column with text cells, read as missing),
     ``"huge-values"`` (values too large for the arithmetic as they are, scaled
-    exactly), ``"trailing-separator"`` (every row ends with a separator).
+    exactly), ``"trailing-separator"`` (every row ends with a separator),
+    ``"comma-numbers"`` (a column read as categories whose cells look like
+    numbers with a decimal comma).
     """
 
     kind: str
@@ -384,6 +386,11 @@ class ReadNote:
             return (f"column `{self.column}` is numeric but {self.count} {rows} hold text "
                     f"({shown}{more}; first on line {self.first_line}): those cells are read "
                     "as missing (use --categorical to read the column as categories)")
+        if self.kind == "comma-numbers":
+            shown = ", ".join(f"`{v}`" for v in self.values)
+            return (f"column `{self.column}` is read as categories, but {self.count} of its "
+                    f"cells look like numbers written with a comma ({shown}, ...); if the "
+                    "comma is the decimal mark, give --decimal , (or --numeric for this column)")
         if self.kind == "huge-values":
             return (f"column `{self.column}` holds values as large as {self.largest:.3g}; "
                     "they are used as they are (scaled exactly by a power of two for the "
@@ -737,6 +744,13 @@ def _settle_column(
     bad = numbers.isna()
     n_numbers = int((~bad).sum())
     if not force_numeric and n_numbers <= int(bad.sum()):
+        if decimal == "." and len(text) and bool(
+            text.str.fullmatch(r"[+-]?\d+,\d+").mean() > 0.5
+        ):
+            # read as categories, but most cells look like `3,5`: say so
+            return None, ReadNote("comma-numbers", column=column,
+                                  values=tuple(dict.fromkeys(text[:_QUOTED_VALUES])),
+                                  count=int(text.str.fullmatch(r"[+-]?\d+,\d+").sum()))  # fmt: skip
         return None, None
     values = _pd.Series(_np.nan, index=series.index, dtype="float64")
     values[numbers.index] = numbers.astype("float64")

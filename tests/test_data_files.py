@@ -275,3 +275,38 @@ def test_reading_csv_text_in_memory_follows_the_same_rules():
     table = table_from_csv_text(text.getvalue())
     assert table.columns() == tuple(rows()[0]) and table.n_rows == 49
     assert not any(table.is_categorical(c) for c in table.columns())
+
+
+def test_decimal_commas_in_a_point_file_are_pointed_out(tmp_path):
+    # one column written with decimal points, one with decimal commas: detection
+    # keeps the point, and the comma column is read as categories -- with a line
+    table = rows()
+    lines = [";".join(table[0])]
+    for r in table[1:]:
+        lines.append(";".join([r[0], r[1].replace(".", ",")] + r[2:]))
+    notes: list[str] = []
+    loaded = load_data(str(write(tmp_path, "mixed.csv", lines)), report=notes.append)
+    assert loaded.is_categorical(table[0][1])
+    assert any(f"`{table[0][1]}` is read as categories" in n and "--decimal ," in n
+               for n in notes)  # fmt: skip
+    fixed = load_data(str(tmp_path / "mixed.csv"), ReadOptions(numeric=(table[0][1],)),
+                      report=lambda line: None)  # fmt: skip
+    assert not fixed.is_categorical(table[0][1])
+
+
+def test_config_data_table_is_validated():
+    from linter.config import ConfigError, from_table
+
+    settings = from_table({"data": {"numeric": ["a"], "sep": "tab", "decimal": ","}}, "p.toml",
+                          ROOT)  # fmt: skip
+    assert settings.data == {"numeric": ("a",), "sep": "\t", "decimal": ","}
+    for bad, words in [
+        ({"data": []}, "must be a table"),
+        ({"data": {"columns": ["a"]}}, "unknown key `columns` in [tool.dagward.data]"),
+        ({"data": {"categorical": "a"}}, "`categorical` must be a list"),
+        ({"data": {"decimal": ";"}}, "`data.decimal` must be"),
+        ({"data": {"categorical": ["a"], "numeric": ["a"]}}, "both name a"),
+    ]:
+        with pytest.raises(ConfigError) as info:
+            from_table(bad, "p.toml", ROOT)
+        assert words in str(info.value) and "p.toml" in str(info.value)
