@@ -398,7 +398,7 @@ class ReadNote:
         return self.kind
 
 
-def detect_format(sample: str) -> tuple[str, str]:
+def detect_format(sample: str, sep: str | None = None) -> tuple[str, str]:
     """(separator, decimal mark) of a CSV file from its first lines.
 
     The separator is the candidate of :data:`SEPARATORS` that splits the header
@@ -406,17 +406,18 @@ def detect_format(sample: str) -> tuple[str, str]:
     trailing separator allowed); a comma when none does. The decimal mark is
     a comma when the separator is not and some cells look like ``3,5`` while
     none looks like ``3.5``. A heuristic (common practice in spreadsheet
-    imports); ``--sep`` and ``--decimal`` override it.
+    imports); ``--sep`` and ``--decimal`` override it. Given ``sep``, only the
+    decimal mark is detected.
     """
     import re
 
     lines = [line for line in sample.splitlines()[:_SNIFF_ROWS] if line.strip()]
     if len(sample) >= _SNIFF_CHARS and len(lines) > 1:
         lines = lines[:-1]  # the last line may be cut
-    best, best_score = ",", (0, 0)
-    for sep in SEPARATORS:
+    best, best_score = sep or ",", (0, 0)
+    for candidate in SEPARATORS if sep is None else ():
         try:
-            rows = list(csv.reader(lines, delimiter=sep))
+            rows = list(csv.reader(lines, delimiter=candidate))
         except csv.Error:
             continue
         if not rows or len(rows[0]) < 2:
@@ -426,7 +427,7 @@ def detect_format(sample: str) -> tuple[str, str]:
                       or (len(r) == width + 1 and not r[-1].strip()))  # fmt: skip
         score = (fitting, width)
         if score > best_score:
-            best, best_score = sep, score
+            best, best_score = candidate, score
     decimal = "."
     if best != ",":
         comma = re.compile(r"[+-]?\d+,\d+")
@@ -499,7 +500,7 @@ def _read_csv(name: str, sample: str, lines: Callable[[], Iterable[str]], source
     if options.sep is not None and options.decimal is not None:
         sep, decimal = options.sep, options.decimal
     else:
-        found_sep, found_decimal = detect_format(sample)
+        found_sep, found_decimal = detect_format(sample, options.sep)
         sep = options.sep or found_sep
         decimal = options.decimal or (found_decimal if sep != "," else ".")
         if (options.sep is None and sep != ",") or (options.decimal is None and decimal != "."):

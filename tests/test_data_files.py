@@ -218,6 +218,10 @@ def test_semicolon_and_tab_files_with_decimal_commas_give_the_same_figures(
     quiet: list[str] = []
     again = results(tmp_path / "eu.csv", ReadOptions(sep=sep, decimal=","), notes=quiet)
     assert figures(again) == figures(clean) and quiet == []
+    # the separator given, the decimal comma still detected (and said)
+    said: list[str] = []
+    again = results(tmp_path / "eu.csv", ReadOptions(sep=sep), notes=said)
+    assert figures(again) == figures(clean) and len(said) == 1 and "decimal comma" in said[0]
 
 
 def test_detection_on_its_own():
