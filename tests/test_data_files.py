@@ -314,3 +314,22 @@ def test_config_data_table_is_validated():
         with pytest.raises(ConfigError) as info:
             from_table(bad, "p.toml", ROOT)
         assert words in str(info.value) and "p.toml" in str(info.value)
+
+
+@pytest.mark.parametrize("quoted", [False, True])
+@pytest.mark.parametrize("newline", ["\n", "\r\n"])
+def test_both_width_checks_name_the_same_line(tmp_path, quoted, newline):
+    # without quotes the widths are counted with numpy; with one, row by row
+    table = rows()[:300]
+    lines = [",".join(r) for r in table]
+    if quoted:
+        lines[1] = '"' + table[1][0] + '",' + ",".join(table[1][1:])
+    lines[250] += ",1"
+    path = tmp_path / "w.csv"
+    path.write_bytes((newline.join(lines) + newline).encode())
+    with pytest.raises(UsageProblem, match=r"line 251 has 7 fields"):
+        load_data(str(path))
+    lines[250] = ",".join(table[250])
+    lines.insert(100, "   ")  # a line of blanks counts as blank
+    path.write_bytes((newline.join(lines) + newline).encode())
+    assert load_data(str(path)).n_rows == 299
