@@ -20,7 +20,9 @@ from pathlib import Path
 from .errors import UsageProblem
 from .findings import SEVERITIES, Severity
 
-KEYS = ("include", "exclude", "enable", "disable", "fail-on", "severity", "columns")
+KEYS = ("include", "exclude", "enable", "disable", "fail-on", "severity", "columns", "data")
+# [tool.dagward.data]: how data files are read (see dagward.data.reading_options)
+DATA_KEYS = ("categorical", "numeric", "sep", "decimal")
 
 
 class ConfigError(UsageProblem):
@@ -38,6 +40,7 @@ class Settings:
     # data column name -> diagram variable, where the analysis code's names differ
     # (`[tool.dagward.columns]`; used by `dagward covariates`)
     columns: dict[str, str] = field(default_factory=dict)
+    data: dict[str, object] = field(default_factory=dict)  # [tool.dagward.data], checked
     root: Path = field(default_factory=Path.cwd)  # include/exclude are relative to this
     source: str | None = None  # the file the settings came from
 
@@ -218,9 +221,39 @@ def from_table(table: dict, source: str, root: Path) -> Settings:
         fail_on=_severity(table.get("fail-on", "error"), "fail-on", source),
         severity=checked_severity,
         columns={k.strip(): v.strip() for k, v in columns.items()},
+        data=_data_table(table.get("data", {}), source),
         root=root,
         source=source,
     )
+
+
+def _data_table(data: object, source: str) -> dict[str, object]:
+    if not isinstance(data, dict):
+        raise ConfigError(f"{source}: `data` must be a table ([tool.dagward.data])")
+    for key in data:
+        if key not in DATA_KEYS:
+            raise ConfigError(f"{source}: unknown key `{key}` in [tool.dagward.data] "
+                              f"(known: {', '.join(DATA_KEYS)})")  # fmt: skip
+    out: dict[str, object] = {}
+    for key in ("categorical", "numeric"):
+        if key in data:
+            out[key] = tuple(_strings(data, key, source, []))
+    both = sorted(set(out.get("categorical", ())) & set(out.get("numeric", ())))
+    if both:
+        raise ConfigError(f"{source}: data.categorical and data.numeric both name "
+                          f"{', '.join(both)}")  # fmt: skip
+    if "sep" in data:
+        sep = data["sep"]
+        if sep not in (",", ";", "\t", "|", "tab"):
+            raise ConfigError(f"{source}: `data.sep` must be one of `,` `;` `\\t` (or `tab`) "
+                              f"`|`, not {sep!r}")  # fmt: skip
+        out["sep"] = "\t" if sep == "tab" else sep
+    if "decimal" in data:
+        if data["decimal"] not in (".", ","):
+            raise ConfigError(f"{source}: `data.decimal` must be `.` or `,`, "
+                              f"not {data['decimal']!r}")  # fmt: skip
+        out["decimal"] = data["decimal"]
+    return out
 
 
 def _strings(table: dict, key: str, source: str, default: list[str]) -> list[str]:

@@ -23,7 +23,7 @@ from .errors import UsageProblem
 
 if TYPE_CHECKING:
     from .model import Diagram
-    from .stats import Independence, Table, TestResult
+    from .stats import Independence, ReadOptions, Table, TestResult
 
 METHODS = ("pearson", "spearman")
 
@@ -52,31 +52,90 @@ class DataOptions:
             raise UsageProblem(f"--method must be one of {', '.join(METHODS)}, not {self.method!r}")
 
 
-def load_data(path: str) -> Table:
-    """Read a CSV file into a `dagward.stats.Table`; any problem is a `UsageProblem`."""
+def load_data(
+    path: str,
+    reading: ReadOptions | None = None,
+    *,
+    report: Callable[[str], None] | None = None,
+) -> Table:
+    """Read a CSV file into a `dagward.stats.Table`; any problem is a `UsageProblem`.
+
+    What the reader did that changes what the data mean (a detected separator
+    or decimal comma, text cells in a numeric column read as missing, huge
+    values) is passed to `report` one line each, by default written to stderr
+    as `dagward: FILE: ...`; the same notes stay on `table.notes`.
+    """
     from .stats import StatsError, load_table
 
     try:
-        return load_table(path)
+        table = load_table(path, options=reading)
     except StatsError as e:  # DataError and StatsUnavailable: one line for the user
         raise UsageProblem(_one_line(str(e))) from None
+    for note in table.notes:
+        line = f"dagward: {path}: {note.message()}"
+        if report is None:
+            sys.stderr.write(line + "\n")
+        else:
+            report(line)
+    return table
 
 
-def table_from_csv_text(text: str, source: str = "<text>") -> Table:
+def table_from_csv_text(
+    text: str, source: str = "<text>", reading: ReadOptions | None = None
+) -> Table:
     """A table from CSV text (docstring examples and tests); same rules as `load_data`."""
-    import io
-
-    from .stats import StatsError, Table, _require
+    from .stats import StatsError, table_from_text
 
     try:
-        _require()
-        import pandas as pd
-
-        frame = pd.read_csv(io.StringIO(text))
-        frame.columns = [str(c).strip() for c in frame.columns]
-        return Table(frame, source=source)
+        return table_from_text(text, source, options=reading)
     except StatsError as e:
         raise UsageProblem(_one_line(str(e))) from None
+
+
+# --- how the data file is read: options and `[tool.dagward.data]` ----------------
+
+_SEP_WORDS = {"comma": ",", "semicolon": ";", "tab": "\t", "\\t": "\t", "pipe": "|"}
+
+
+def add_reading_arguments(p) -> None:
+    """`--sep`, `--decimal`, `--categorical`, `--numeric` (shared by the commands)."""
+    p.add_argument("--sep", metavar="CHAR", help="field separator of the data file: `,` `;` "
+                   "`tab` or `|` (default: detected)")  # fmt: skip
+    p.add_argument("--decimal", metavar="CHAR", choices=(".", ","),
+                   help="decimal mark of the data file, `.` or `,` (default: detected)")
+    p.add_argument("--categorical", metavar="COLUMNS", action="append", default=[],
+                   help="read these columns (comma-separated) as categories")
+    p.add_argument("--numeric", metavar="COLUMNS", action="append", default=[],
+                   help="read these columns (comma-separated) as numbers; text cells are missing")
+
+
+def reading_options(args, settings=None) -> ReadOptions:
+    """The reading options from the command line, over `[tool.dagward.data]`."""
+    from .stats import ReadOptions
+
+    base = getattr(settings, "data", None) or {}
+
+    def columns(option: list[str] | None, key: str) -> tuple[str, ...]:
+        given = [c.strip() for raw in option or [] for c in raw.split(",") if c.strip()]
+        return tuple(dict.fromkeys(given or list(base.get(key, ()))))
+
+    sep = getattr(args, "sep", None) or base.get("sep")
+    if sep is not None:
+        sep = _SEP_WORDS.get(sep, sep)
+        if len(sep) != 1 or sep in "\"\n\r" or sep.isalnum():
+            raise UsageProblem(f"--sep must be one character such as `,` `;` `tab` or `|`, "
+                               f"not {sep!r}")  # fmt: skip
+    decimal = getattr(args, "decimal", None) or base.get("decimal")
+    if decimal is not None and decimal not in (".", ","):
+        raise UsageProblem(f"--decimal must be `.` or `,`, not {decimal!r}")
+    if sep is not None and decimal is not None and sep == decimal:
+        raise UsageProblem(f"--sep and --decimal cannot both be `{sep}`")
+    categorical = columns(getattr(args, "categorical", None), "categorical")
+    numeric = columns(getattr(args, "numeric", None), "numeric")
+    both = sorted(set(categorical) & set(numeric))
+    if both:
+        raise UsageProblem(f"column {', '.join(both)} is named both categorical and numeric")
+    return ReadOptions(sep=sep, decimal=decimal, categorical=categorical, numeric=numeric)
 
 
 def _one_line(message: str) -> str:

@@ -12,7 +12,8 @@ The canonical layout:
 * `period name: a, b`, `unmeasured a, b`, `label a "text"`, `title "text"`
   (string literals are kept exactly as written, escapes included);
 * `analysis name {` (or `analysis {` when the name was omitted), its entries
-  `key: a, b` indented by two spaces, and `}` alone on its line;
+  `key: a, b` (`effect: natural-direct`, `mediator: m`, `restricted: r` alike)
+  indented by two spaces in the order written, and `}` alone on its line;
 * a comment at the end of a statement stays there, at least two spaces after
   it; the trailing comments of consecutive lines (no blank line, no line without
   such a comment between them, same indentation) start in one column, two
@@ -84,6 +85,8 @@ def statement_text(statement: Statement | Entry) -> str:
     if isinstance(statement, TitleStatement):
         return f"title {statement.text}"
     if isinstance(statement, Entry):
+        if statement.value is not None:  # `effect: natural-direct`
+            return f"{statement.key}: {statement.value.text}"
         return f"{statement.key}: {'none' if statement.is_none else _names(statement.names)}"
     if isinstance(statement, Analysis):
         return f"analysis {statement.name_token.text} {{" if statement.name_token else "analysis {"

@@ -14,9 +14,19 @@ from typing import TYPE_CHECKING, Literal, NamedTuple
 if TYPE_CHECKING:  # networkx is imported lazily: `fmt` never needs it
     import networkx as nx
 
-RESERVED_WORDS = frozenset(
-    "title label unmeasured period analysis exposure outcome adjust none".split()
+# Words that start a statement or an analysis entry. They are keywords only there
+# (the grammar's lexer is contextual): anywhere a name is expected they are names,
+# since `exposure`, `outcome` or `period` are natural variable names.
+KEYWORDS = frozenset(
+    "title label unmeasured period analysis exposure outcome adjust none "
+    "effect mediator restricted".split()
 )
+# The one word that can never be a variable name: `adjust: none` is the empty set.
+RESERVED_WORDS = frozenset({"none"})
+
+# The effects an analysis may ask for (`effect:`); `total` is the default.
+EFFECTS = ("total", "controlled-direct", "natural-direct", "natural-indirect")
+DEFAULT_EFFECT = "total"
 
 # The name an analysis gets when the file has exactly one and it is unnamed.
 DEFAULT_ANALYSIS = "main"
@@ -130,18 +140,24 @@ class ArrowStatement(NamedTuple):
     span: Span
 
 
-RoleKey = Literal["exposure", "outcome", "adjust"]
+RoleKey = Literal["exposure", "outcome", "adjust", "effect", "mediator", "restricted"]
 
 
 @dataclass(frozen=True, slots=True)
 class Entry:
-    """One `key: names` line inside an analysis block; `names` is empty for `adjust: none`."""
+    """One `key: value` line inside an analysis block.
+
+    `names` holds the variables of a list key; it is empty for `adjust: none` and
+    for `effect:`, whose value (`total`, `controlled-direct`, ...) is `value`, a
+    `Name` only for its text and span (it is never a variable).
+    """
 
     key: RoleKey
     key_span: Span
     names: tuple[Name, ...]
     is_none: bool
     span: Span
+    value: Name | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -176,6 +192,27 @@ class Analysis:
         return next((e for e in self.entries if e.key == key), None)
 
     @property
+    def effect(self) -> str:
+        """The effect asked for: `total` (the default), `controlled-direct`,
+        `natural-direct` or `natural-indirect` (the first `effect:` line)."""
+        entry = self.entry("effect")
+        return DEFAULT_EFFECT if entry is None or entry.value is None else entry.value.text
+
+    @property
+    def effect_span(self) -> Span | None:
+        """Where the effect is named (its value in `effect:`), or None when defaulted."""
+        entry = self.entry("effect")
+        return None if entry is None or entry.value is None else entry.value.span
+
+    @property
+    def mediator(self) -> list[Name]:
+        return self._names("mediator")
+
+    @property
+    def restricted(self) -> list[Name]:
+        return self._names("restricted")
+
+    @property
     def exposure_set(self) -> frozenset[str]:
         return frozenset(n.text for n in self.exposure)
 
@@ -187,6 +224,14 @@ class Analysis:
     def adjust_set(self) -> frozenset[str] | None:
         adjust = self.adjust
         return None if adjust is None else frozenset(n.text for n in adjust)
+
+    @property
+    def mediator_set(self) -> frozenset[str]:
+        return frozenset(n.text for n in self.mediator)
+
+    @property
+    def restricted_set(self) -> frozenset[str]:
+        return frozenset(n.text for n in self.restricted)
 
 
 Statement = (

@@ -53,6 +53,10 @@ __all__ = [
     "g_test_conditional",
     "holm",
     "load_table",
+    "ReadNote",
+    "ReadOptions",
+    "detect_format",
+    "table_from_text",
     "partial_correlation",
     "simulate_linear_gaussian",
     "test_independencies",
@@ -61,6 +65,13 @@ __all__ = [
 # A numeric column with at most this many distinct values enters a G-test with
 # one level per value; a numeric column with more is cut at its quintiles.
 CATEGORICAL_MAX_LEVELS_AS_IS = 5
+
+# A G-test needs on average at least this many rows per cell of its table
+# (levels of a x levels of b x strata of the conditioning set); below it the
+# test is not run. The rule of thumb of "expected counts of at least 5" for
+# chi-squared-type tests: Cochran 1954, "Some methods for strengthening the
+# common chi-squared tests", Biometrics 10:417-451 (from memory).
+G_TEST_MIN_PER_CELL = 5
 
 # Fieller, Hartley & Pearson (1957): var(atanh(r_s)) ~ 1.06 / (n - 3) for
 # Spearman's coefficient under bivariate normality.
@@ -212,9 +223,10 @@ class Table:
     """
 
     def __init__(self, frame: pd.DataFrame, *, source: str = "<memory>",
-                 categorical: Iterable[str] = ()) -> None:
+                 categorical: Iterable[str] = (), notes: Iterable[ReadNote] = ()) -> None:
         _require()
         self.source = source
+        self.notes: tuple[ReadNote, ...] = tuple(notes)  # what reading the file did
         self._frame = frame
         forced = set(categorical)
         unknown = forced - set(frame.columns)
@@ -260,6 +272,12 @@ class Table:
             if not _np.isfinite(values).all():
                 values = values.copy()
                 values[~_np.isfinite(values)] = _np.nan
+            largest = _np.nanmax(_np.abs(values)) if not _np.isnan(values).all() else 0.0
+            if largest > _HUGE:
+                # Scale by a power of two (exact in floating point): correlations,
+                # ranks and quantile bins are unchanged, and the sums of squares
+                # no longer overflow.
+                values = values * 2.0 ** -(math.frexp(float(largest))[1])
             cached = values
             self._numeric_cache[name] = cached
         return cached
@@ -298,12 +316,138 @@ def _is_numeric_dtype(series: pd.Series) -> bool:
     return bool(series.isna().all())
 
 
-def load_table(path: str | Path, *, categorical: Iterable[str] = ()) -> Table:
-    """Read a CSV file (header row, comma-separated, UTF-8 with optional BOM).
+# --------------------------------------------------------------------------
+# reading a CSV file
 
-    Column names are stripped of surrounding blanks. Raises :class:`DataError`
-    naming the file when it is missing, unreadable, empty, has no data rows or
-    repeats a column name.
+# Field separators tried when none is given, in order of preference on a tie.
+SEPARATORS = (",", ";", "\t", "|")
+SEPARATOR_NAMES = {",": "comma", ";": "semicolon", "\t": "tab", "|": "vertical bar"}
+_SNIFF_CHARS = 256 * 1024  # the start of the file that the detection reads
+_SNIFF_ROWS = 200
+# Magnitudes above 2**500 (about 3e150) cannot be squared and summed in float64:
+# such columns are scaled by an exact power of two before the arithmetic.
+_HUGE = 2.0**500
+# Distinct text values quoted in a note about a numeric column.
+_QUOTED_VALUES = 5
+
+
+@dataclass(frozen=True)
+class ReadOptions:
+    """How a CSV file is read.
+
+    ``sep`` and ``decimal`` are detected when None (see :func:`detect_format`).
+    ``categorical`` columns are categories whatever their values;
+    ``numeric`` columns are numbers, their text cells missing.
+    """
+
+    sep: str | None = None
+    decimal: str | None = None
+    categorical: tuple[str, ...] = ()
+    numeric: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class ReadNote:
+    """Something the reader did that the user should know, as structured data.
+
+    ``kind``: ``"format"`` (the separator and decimal mark were detected),
+    ``"text-in-numeric"`` (a numeric column with text cells, read as missing),
+    ``"huge-values"`` (values too large for the arithmetic as they are, scaled
+    exactly), ``"trailing-separator"`` (every row ends with a separator),
+    ``"comma-numbers"`` (a column read as categories whose cells look like
+    numbers with a decimal comma).
+    """
+
+    kind: str
+    column: str | None = None
+    values: tuple[str, ...] = ()  # the distinct offending cells, as written (a few)
+    count: int = 0  # how many cells
+    first_line: int | None = None  # the file line of the first such cell
+    sep: str | None = None
+    decimal: str | None = None
+    largest: float | None = None
+
+    def message(self) -> str:
+        if self.kind == "format":
+            mark = "decimal comma" if self.decimal == "," else "decimal point"
+            return (f"read as {SEPARATOR_NAMES.get(self.sep or ',', repr(self.sep))}-separated"
+                    f" with a {mark} (detected; --sep and --decimal set them)")
+        if self.kind == "trailing-separator":
+            return ("every row ends with a separator after the last column; "
+                    "the empty field at the end is ignored")
+        if self.kind == "text-in-numeric":
+            shown = ", ".join(f"`{v}`" for v in self.values)
+            more = ", ..." if self.count > len(self.values) else ""
+            rows = "row" if self.count == 1 else "rows"
+            return (f"column `{self.column}` is numeric but {self.count} {rows} hold text "
+                    f"({shown}{more}; first on line {self.first_line}): those cells are read "
+                    "as missing (use --categorical to read the column as categories)")
+        if self.kind == "comma-numbers":
+            shown = ", ".join(f"`{v}`" for v in self.values)
+            return (f"column `{self.column}` is read as categories, but {self.count} of its "
+                    f"cells look like numbers written with a comma ({shown}, ...); if the "
+                    "comma is the decimal mark, give --decimal , (or --numeric for this column)")
+        if self.kind == "huge-values":
+            return (f"column `{self.column}` holds values as large as {self.largest:.3g}; "
+                    "they are used as they are (scaled exactly by a power of two for the "
+                    "arithmetic), but check that they are not codes for missing values")
+        return self.kind
+
+
+def detect_format(sample: str, sep: str | None = None) -> tuple[str, str]:
+    """(separator, decimal mark) of a CSV file from its first lines.
+
+    The separator is the candidate of :data:`SEPARATORS` that splits the header
+    into at least two fields and gives the most rows of the header's width (a
+    trailing separator allowed); a comma when none does. The decimal mark is
+    a comma when the separator is not and some cells look like ``3,5`` while
+    none looks like ``3.5``. A heuristic (common practice in spreadsheet
+    imports); ``--sep`` and ``--decimal`` override it. Given ``sep``, only the
+    decimal mark is detected.
+    """
+    import re
+
+    lines = [line for line in sample.splitlines()[:_SNIFF_ROWS] if line.strip()]
+    if len(sample) >= _SNIFF_CHARS and len(lines) > 1:
+        lines = lines[:-1]  # the last line may be cut
+    best, best_score = sep or ",", (0, 0)
+    for candidate in SEPARATORS if sep is None else ():
+        try:
+            rows = list(csv.reader(lines, delimiter=candidate))
+        except csv.Error:
+            continue
+        if not rows or len(rows[0]) < 2:
+            continue
+        width = len(rows[0]) - (1 if rows[0][-1].strip() == "" else 0)
+        fitting = sum(1 for r in rows[1:] if len(r) == width
+                      or (len(r) == width + 1 and not r[-1].strip()))  # fmt: skip
+        score = (fitting, width)
+        if score > best_score:
+            best, best_score = candidate, score
+    decimal = "."
+    if best != ",":
+        comma = re.compile(r"[+-]?\d+,\d+")
+        point = re.compile(r"[+-]?\d*\.\d+(?:[eE][+-]?\d+)?")
+        cells = [c.strip() for r in csv.reader(lines[1:], delimiter=best) for c in r]
+        if any(comma.fullmatch(c) for c in cells) and not any(point.fullmatch(c) for c in cells):
+            decimal = ","
+    return best, decimal
+
+
+def load_table(path: str | Path, *, categorical: Iterable[str] = (),
+               options: ReadOptions | None = None) -> Table:
+    """Read a CSV file (header row, UTF-8 with optional BOM) into a :class:`Table`.
+
+    The separator and decimal mark are detected (:func:`detect_format`) unless
+    ``options`` gives them. Column names are stripped of surrounding blanks.
+    Every row must have the header's width (a separator at the end of every
+    row, as some spreadsheets write, is allowed and ignored); otherwise the
+    error names the first line that differs. A column is numeric when most of
+    its non-missing cells are numbers: its other cells are read as missing and
+    reported in ``table.notes`` (which column, which values, how many rows);
+    categorical when most are not, or when ``options.categorical`` names it.
+    Raises :class:`DataError` naming the file when it is missing, unreadable,
+    empty, malformed, has no data rows or repeats a column name.
     """
     _require()
     path = Path(path)
@@ -314,32 +458,320 @@ def load_table(path: str | Path, *, categorical: Iterable[str] = ()) -> Table:
         raise DataError(f"{name}: is a directory, not a CSV file")
     try:
         with open(path, encoding="utf-8-sig", newline="") as handle:
-            header = next(csv.reader(handle), None)
+            sample = handle.read(_SNIFF_CHARS)
     except UnicodeDecodeError as exc:
         raise DataError(f"{name}: not UTF-8 text ({exc.reason} at byte {exc.start})") from exc
-    except (OSError, csv.Error) as exc:
+    except OSError as exc:
         raise DataError(f"{name}: cannot read ({exc})") from exc
-    if not header or all(not cell.strip() for cell in header):
-        raise DataError(f"{name}: empty file (expected a header row naming the columns)")
-    stripped = [cell.strip() for cell in header]
-    seen: set[str] = set()
-    for cell in stripped:
-        if not cell:
-            raise DataError(f"{name}: the header has an empty column name")
-        if cell in seen:
-            raise DataError(f"{name}: column `{cell}` appears twice in the header")
-        seen.add(cell)
+
+    def lines() -> Iterable[str]:
+        with open(path, encoding="utf-8-sig", newline="") as handle:
+            yield from handle
+
+    def raw() -> Any:
+        return open(path, "rb")
+
     try:
-        frame = _pd.read_csv(path, encoding="utf-8-sig", low_memory=False)
+        return _read_csv(name, sample, lines, path, categorical, options or ReadOptions(), raw)
+    except UnicodeDecodeError as exc:
+        raise DataError(f"{name}: not UTF-8 text ({exc.reason} at byte {exc.start})") from exc
+
+
+def table_from_text(text: str, source: str = "<text>", *, categorical: Iterable[str] = (),
+                    options: ReadOptions | None = None) -> Table:
+    """A table from CSV text, read by the same rules as :func:`load_table`."""
+    import io
+
+    _require()
+    text = text.removeprefix("\ufeff")
+    return _read_csv(source, text[:_SNIFF_CHARS], lambda: io.StringIO(text, newline=""),
+                     io.StringIO(text, newline=""), categorical, options or ReadOptions(),
+                     lambda: io.BytesIO(text.encode("utf-8")))  # fmt: skip
+
+
+def _read_csv(name: str, sample: str, lines: Callable[[], Iterable[str]], source: Any,
+              categorical: Iterable[str], options: ReadOptions,
+              raw: Callable[[], Any]) -> Table:  # fmt: skip
+    notes: list[ReadNote] = []
+    if options.sep is not None and options.decimal is not None:
+        sep, decimal = options.sep, options.decimal
+    else:
+        found_sep, found_decimal = detect_format(sample, options.sep)
+        sep = options.sep or found_sep
+        decimal = options.decimal or (found_decimal if sep != "," else ".")
+        if (options.sep is None and sep != ",") or (options.decimal is None and decimal != "."):
+            notes.append(ReadNote("format", sep=sep, decimal=decimal))
+    if sep == decimal:
+        raise DataError(f"{name}: the separator and the decimal mark are both `{sep}`")
+    header, trailing = _check_widths(name, lines(), sep, raw)
+    if trailing:
+        notes.append(ReadNote("trailing-separator"))
+    width = len(header)
+    encoding = {"encoding": "utf-8-sig"} if isinstance(source, (str, Path)) else {}
+    try:
+        # index_col=False: a separator at the end of every row must not turn the
+        # first column into the row index (which shifts every column by one).
+        frame = _pd.read_csv(source, sep=sep, decimal=decimal, index_col=False,
+                             usecols=range(width), header=0, names=header,
+                             low_memory=False, **encoding)  # fmt: skip
     except _pd.errors.EmptyDataError as exc:
         raise DataError(f"{name}: empty file") from exc
-    except (_pd.errors.ParserError, ValueError, UnicodeDecodeError, OSError) as exc:
+    except (_pd.errors.ParserError, ValueError, OSError) as exc:
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise DataError(f"{name}: malformed CSV ({first})") from exc
-    frame.columns = stripped
     if len(frame) == 0:
         raise DataError(f"{name}: no data rows (only a header)")
-    return Table(frame, source=name, categorical=categorical)
+    forced_categorical = set(categorical) | set(options.categorical)
+    forced_numeric = set(options.numeric)
+    unknown = (forced_categorical | forced_numeric) - set(header)
+    if unknown:
+        raise DataError(f"{name}: no column named {', '.join(sorted(unknown))}")
+    both = forced_categorical & forced_numeric
+    if both:
+        raise DataError(f"{name}: column {', '.join(sorted(both))} is named both categorical"
+                        " and numeric")  # fmt: skip
+    line_of_row = lambda: _row_lines(lines(), sep)  # noqa: E731 (only when a note needs it)
+    for column in header:
+        if column in forced_categorical:
+            continue
+        series = frame[column]
+        if _is_text(series):
+            converted, note = _settle_column(column, series, decimal, column in forced_numeric,
+                                             line_of_row)  # fmt: skip
+            if converted is not None:
+                frame[column] = converted
+            if note is not None:
+                notes.append(note)
+        elif column in forced_numeric and _pd.api.types.is_bool_dtype(series.dtype):
+            frame[column] = series.astype(float)
+        huge = _huge_note(column, frame[column])
+        if huge is not None:
+            notes.append(huge)
+    return Table(frame, source=name, categorical=forced_categorical, notes=notes)
+
+
+def _is_text(series: pd.Series) -> bool:
+    """Neither numbers nor booleans (object or string dtype, by pandas version)."""
+    api = _pd.api.types
+    return not (api.is_numeric_dtype(series.dtype) or api.is_bool_dtype(series.dtype))
+
+
+def _check_widths(name: str, lines: Iterable[str], sep: str,
+                  raw: Callable[[], Any] | None = None) -> tuple[list[str], bool]:  # fmt: skip
+    """The stripped header, and whether every row ends with an extra empty field.
+
+    Every row must have the header's width, or that width plus one empty field
+    at the end (a trailing separator) on every row; the first row that differs
+    is an error naming its line. Files without quotes are checked by counting
+    separators per line with numpy (a 1,000,000-row file in a fraction of a
+    second); others row by row with the csv module.
+    """
+    try:
+        reader = csv.reader(lines, delimiter=sep)
+        header = next(reader, None)
+        if not header or all(not cell.strip() for cell in header):
+            raise DataError(f"{name}: empty file (expected a header row naming the columns)")
+        stripped = [cell.strip() for cell in header]
+        header_trailing = len(stripped) > 1 and stripped[-1] == ""
+        if header_trailing:
+            stripped.pop()
+        seen: set[str] = set()
+        for cell in stripped:
+            if not cell:
+                raise DataError(f"{name}: the header has an empty column name")
+            if cell in seen:
+                raise DataError(f"{name}: column `{cell}` appears twice in the header")
+            seen.add(cell)
+        width = len(stripped)
+        state = _WidthState(name, sep, width, header_trailing)
+        if raw is not None and reader.line_num == 1 and _widths_by_counting(raw, sep, state):
+            return stripped, state.trailing
+        for row in reader:
+            state.row(row, reader.line_num)
+    except csv.Error as exc:
+        raise DataError(f"{name}: malformed CSV ({exc})") from exc
+    return stripped, state.trailing
+
+
+class _WidthState:
+    """The width rule, fed one row at a time (see `_check_widths`)."""
+
+    def __init__(self, name: str, sep: str, width: int, header_trailing: bool) -> None:
+        self.name, self.sep, self.width = name, sep, width
+        self.header_trailing = header_trailing
+        self._kind: bool | None = True if header_trailing else None  # rows end with sep?
+
+    @property
+    def trailing(self) -> bool:
+        return bool(self._kind)
+
+    def row(self, row: list[str], line: int) -> None:
+        width = self.width
+        if not row or (len(row) == 1 and not row[0].strip()):
+            return  # a blank line
+        if len(row) == width + 1 and not row[-1].strip() and self._kind is not False:
+            self._kind = True
+            return
+        if len(row) == width and (self.header_trailing or self._kind is not True):
+            if not self.header_trailing:
+                self._kind = False
+            return  # (with a trailing header, the empty last field may be left out)
+        what = "fields" if len(row) != 1 else "field"
+        expected = f"{width} (the header's width)"
+        if self._kind:
+            expected = f"{width} and an empty one at the end, like the rows before it"
+        columns = "column" if width == 1 else "columns"
+        hint = "; the separator is likely wrong: set it with --sep" if width == 1 else ""
+        raise DataError(f"{self.name}: line {line} has {len(row)} {what} where {expected} are "
+                        f"expected; the header names {width} {columns} (separator: "
+                        f"{SEPARATOR_NAMES.get(self.sep, repr(self.sep))}){hint}")  # fmt: skip
+
+
+_CHUNK = 8 * 1024 * 1024
+
+
+def _widths_by_counting(raw: Callable[[], Any], sep: str, state: _WidthState) -> bool:
+    """The width check by counting separators per line; False (nothing checked)
+    when the file has a quote, which may hide separators or line breaks."""
+    sep_byte, nl = ord(sep), ord("\n")
+    line_offset = 0  # lines before the current chunk
+    with raw() as handle:
+        first = handle.readline()  # the header, checked by the caller
+        if b'"' in first:
+            return False
+        line_offset = 1
+        tail = b""
+        while True:
+            chunk = handle.read(_CHUNK)
+            data = tail + chunk
+            if not chunk:
+                if not data:
+                    break
+                if not data.endswith(b"\n"):
+                    data += b"\n"
+                end = len(data)
+            else:
+                end = data.rfind(b"\n") + 1
+                if end == 0:
+                    tail = data
+                    continue
+            block, tail = data[:end], data[end:]
+            if b'"' in block:
+                return False
+            if block:
+                line_offset = _count_block(block, sep_byte, nl, state, line_offset)
+            if not chunk:
+                break
+    return True
+
+
+def _count_block(block: bytes, sep_byte: int, nl: int, state: _WidthState, offset: int) -> int:
+    """Check the whole lines of `block`; returns the line count after it."""
+    arr = _np.frombuffer(block, dtype=_np.uint8)
+    ends = _np.flatnonzero(arr == nl)  # the newline of each line
+    starts = _np.empty_like(ends)
+    starts[0] = 0
+    starts[1:] = ends[:-1] + 1
+    at = _np.flatnonzero(arr == sep_byte)  # (a cumulative sum is several times slower)
+    fields = _np.searchsorted(at, ends) - _np.searchsorted(at, starts) + 1
+    # the last character before the newline (a \r of CRLF skipped)
+    last = _np.maximum(ends - 1, 0)
+    cr = (arr[last] == ord("\r")) & (ends > starts)
+    last = _np.where(cr, _np.maximum(last - 1, 0), last)
+    length = ends - starts - cr.astype(_np.int64)
+    ends_with_sep = (length > 0) & (arr[last] == sep_byte)
+    width = state.width
+    plain = fields == width
+    trail = (fields == width + 1) & ends_with_sep
+    blank = length == 0
+    # lines the vectorised rule cannot settle go through the row rule one by one
+    odd = ~(plain | trail | blank)
+    if state.header_trailing:
+        odd_index = _np.flatnonzero(odd)
+    else:
+        kind = state._kind
+        if kind is None:
+            first_plain = int(_np.argmax(plain)) if plain.any() else None
+            first_trail = int(_np.argmax(trail)) if trail.any() else None
+            if first_plain is not None and (first_trail is None or first_plain < first_trail):
+                kind = False
+            elif first_trail is not None:
+                kind = True
+        if kind is True:
+            odd = odd | plain
+        elif kind is False:
+            odd = odd | trail
+        if kind is not None:
+            state._kind = kind
+        odd_index = _np.flatnonzero(odd)
+    for i in odd_index:
+        text = block[starts[i]:ends[i]].decode("utf-8", errors="replace").rstrip("\r")
+        state.row(next(csv.reader([text], delimiter=state.sep), []), offset + int(i) + 1)
+    return offset + len(ends)
+
+
+def _row_lines(lines: Iterable[str], sep: str) -> list[int]:
+    """The file line of each data row (rows may span lines inside quotes)."""
+    reader = csv.reader(lines, delimiter=sep)
+    next(reader, None)
+    out = []
+    start = reader.line_num + 1
+    for row in reader:
+        if row and not (len(row) == 1 and not row[0].strip()):
+            out.append(start)
+        start = reader.line_num + 1
+    return out
+
+
+def _settle_column(
+    column: str, series: pd.Series, decimal: str, force_numeric: bool,
+    line_of_row: Callable[[], list[int]],
+) -> tuple[pd.Series | None, ReadNote | None]:  # fmt: skip
+    """A text column: numbers when most of its cells are (or when forced), else None.
+
+    Returns (the numeric column or None to keep it as categories, a note on the
+    text cells read as missing).
+    """
+    present = series.notna()
+    text = series[present].astype(str).str.strip()
+    if decimal == ",":
+        text = text.str.replace(",", ".", regex=False)
+    numbers = _pd.to_numeric(text, errors="coerce")
+    # booleans stay categories (pandas reads True/False as numbers when coerced)
+    bad = numbers.isna()
+    n_numbers = int((~bad).sum())
+    if not force_numeric and n_numbers <= int(bad.sum()):
+        if decimal == "." and len(text) and bool(
+            text.str.fullmatch(r"[+-]?\d+,\d+").mean() > 0.5
+        ):
+            # read as categories, but most cells look like `3,5`: say so
+            return None, ReadNote("comma-numbers", column=column,
+                                  values=tuple(dict.fromkeys(text[:_QUOTED_VALUES])),
+                                  count=int(text.str.fullmatch(r"[+-]?\d+,\d+").sum()))  # fmt: skip
+        return None, None
+    values = _pd.Series(_np.nan, index=series.index, dtype="float64")
+    values[numbers.index] = numbers.astype("float64")
+    note = None
+    if bad.any():
+        raw = series[present][bad]
+        distinct = list(dict.fromkeys(str(v) for v in raw))[:_QUOTED_VALUES]
+        position = int(series.index.get_loc(raw.index[0]))
+        row_lines = line_of_row()
+        first_line = row_lines[position] if position < len(row_lines) else position + 2
+        note = ReadNote("text-in-numeric", column=column, values=tuple(distinct),
+                        count=int(bad.sum()), first_line=first_line)  # fmt: skip
+    return values, note
+
+
+def _huge_note(column: str, series: pd.Series) -> ReadNote | None:
+    if not _pd.api.types.is_float_dtype(series.dtype) and not \
+            _pd.api.types.is_integer_dtype(series.dtype):  # fmt: skip
+        return None
+    values = _np.abs(series.to_numpy(dtype="float64", na_value=_np.nan))
+    finite = values[_np.isfinite(values)]
+    if finite.size and finite.max() > _HUGE:
+        return ReadNote("huge-values", column=column, largest=float(finite.max()))
+    return None
 
 
 # --------------------------------------------------------------------------
@@ -694,6 +1126,15 @@ def _g_test(table: Table, ind: Independence, rows: np.ndarray) -> _Raw:
         sc = sc.ravel().astype(_np.int64)
     else:
         sc = _np.zeros(n, dtype=_np.int64)
+    cells = int(xc.max() + 1) * int(yc.max() + 1) * int(sc.max() + 1)
+    if n < G_TEST_MIN_PER_CELL * cells:
+        # Too many cells for the rows: the chi-squared approximation of G fails
+        # and sparse tables call real dependence "consistent" (rule of thumb:
+        # at least 5 expected rows per cell, Cochran 1954, from memory).
+        strata = int(sc.max() + 1)
+        return _untested("g-test", n, f"too few rows for the G-test: {n} rows for {cells:,} "
+                         f"cells ({int(xc.max() + 1)} x {int(yc.max() + 1)} levels in "
+                         f"{strata:,} strata), fewer than {G_TEST_MIN_PER_CELL} a cell")
     g, df, p = _g_from_codes(xc, yc, sc)
     if df == 0:
         return _untested("g-test", n, "no stratum of the conditioning set shows two levels"

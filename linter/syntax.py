@@ -21,6 +21,8 @@ from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedTok
 from .gcpause import collector_paused
 from .model import (
     DEFAULT_ANALYSIS,
+    DEFAULT_EFFECT,
+    KEYWORDS,
     RESERVED_WORDS,
     Analysis,
     Arrow,
@@ -99,7 +101,13 @@ class _Builder(Transformer):
 
     # statements -------------------------------------------------------------
     def names(self, children):
-        return tuple(_name(t) for t in children if t.type == "NAME")
+        # The contextual lexer reads `none` as a name where only names fit
+        # (`exposure: none`); it is reserved for `adjust: none`.
+        names = tuple(_name(t) for t in children if t.type == "NAME")
+        for n in names:
+            if n.text in RESERVED_WORDS:
+                raise _ReservedName(n)
+        return names
 
     def title(self, children):
         kw, string = children
@@ -200,7 +208,11 @@ class _Builder(Transformer):
 
     def entry(self, children):
         key, _colon, value = children
-        if isinstance(value, Token):  # `adjust: none`
+        if isinstance(value, Token):
+            if value.type == "EFFECT_KIND":  # `effect: natural-direct`
+                return Entry(str(key), _span(key), (), False, _join(_span(key), _span(value)),
+                             _name(value))  # fmt: skip
+            # `adjust: none`
             return Entry(str(key), _span(key), (), True, _join(_span(key), _span(value)))
         return Entry(str(key), _span(key), value, False, _join(_span(key), value[-1].span))
 
@@ -257,9 +269,20 @@ def _parser() -> tuple[Lark, _Builder]:
     # its per-file state is reset before every parse. Not thread-safe, by design.
     builder = _Builder()
     lark = Lark(
-        grammar_text(), parser="lalr", lexer="basic", transformer=builder, maybe_placeholders=False
+        grammar_text(),
+        parser="lalr",
+        lexer="contextual",
+        transformer=builder,
+        maybe_placeholders=False,
     )
     return lark, builder
+
+
+@lru_cache(maxsize=1)
+def _token_lexer() -> Lark:
+    """The same grammar with the basic lexer, to re-lex a line when explaining an error
+    (the contextual lexer needs a parser state). Built on the first syntax error only."""
+    return Lark(grammar_text(), parser="lalr", lexer="basic", maybe_placeholders=False)
 
 
 def _parse_statements(text: str) -> tuple[list, list[Comment]]:
@@ -335,6 +358,15 @@ def parse_source(data: bytes | str, path: str) -> tuple[Diagram | None, SyntaxPr
                         f"analysis `{statement.name}` has no `{key}:` line; "
                         "an analysis needs an exposure and an outcome",
                     )
+            if statement.effect != DEFAULT_EFFECT and statement.entry("mediator") is None:
+                assert statement.effect_span is not None
+                return None, _problem(
+                    parse_text,
+                    statement.effect_span,
+                    f"analysis `{statement.name}` asks for the {_EFFECT_WORDS[statement.effect]}"
+                    " but has no `mediator:` line; name the variables the effect is taken "
+                    "through, for example `mediator: fitness_12m`",
+                )
     return (
         Diagram(
             path=path,
@@ -349,7 +381,15 @@ def parse_source(data: bytes | str, path: str) -> tuple[Diagram | None, SyntaxPr
 
 # --- syntax errors in words ------------------------------------------------------------
 
-_KEYWORDS = {w.upper(): w for w in RESERVED_WORDS}
+_KEYWORDS = {w.upper(): w for w in KEYWORDS}
+_EFFECT_WORDS = {
+    "controlled-direct": "controlled direct effect",
+    "natural-direct": "natural direct effect",
+    "natural-indirect": "natural indirect effect",
+}
+_ENTRY_KEYS = ("EXPOSURE", "OUTCOME", "ADJUST", "EFFECT", "MEDIATOR", "RESTRICTED")
+_ENTRY_KEY_NAMES = frozenset(k.lower() for k in _ENTRY_KEYS)
+_ENTRY_KEY_WORDS = "`exposure:`, `outcome:`, `adjust:`, `effect:`, `mediator:` or `restricted:`"
 _WORDS = {
     "NAME": "a variable name",
     "ARROW": "`->` or `<->`",
@@ -360,6 +400,7 @@ _WORDS = {
     "LBRACE": "`{`",
     "RBRACE": "`}`",
     "ARROW_LINE": "an arrow statement",
+    "EFFECT_KIND": "`total`, `controlled-direct`, `natural-direct` or `natural-indirect`",
     "$END": "the end of the file",
 }
 # Terminals that can start a top-level statement; when they are what is expected,
@@ -367,8 +408,22 @@ _WORDS = {
 _STATEMENT_STARTERS = {"TITLE", "UNMEASURED", "LABEL", "PERIOD", "ANALYSIS", "ARROW_LINE"}
 _ORDER = [
     "NAME", "ARROW", "COMMA", "COLON", "STRING", "LBRACE", "RBRACE", "NONE",
-    "EXPOSURE", "OUTCOME", "ADJUST", "EOL",
+    "EXPOSURE", "OUTCOME", "ADJUST", "EFFECT", "MEDIATOR", "RESTRICTED", "EFFECT_KIND", "EOL",
 ]  # fmt: skip
+# Longest piece of the user's text quoted inside a message, and the width of the
+# excerpt around the error column: a 5 MB line is never echoed in full.
+_QUOTE_LIMIT = 40
+_EXCERPT_HALF = 60
+_NAME_RE = re.compile(r"[^\W\d][\w.]*")
+
+
+def _quote(text: str, limit: int = _QUOTE_LIMIT) -> str:
+    """The text for a message, cut in the middle when long."""
+    text = text.rstrip("\n")
+    if len(text) <= limit:
+        return text
+    half = (limit - 3) // 2
+    return f"{text[:half]}...{text[-half:]} ({len(text):,} characters)"
 
 
 def _reserved_message(word: str) -> str:
@@ -378,11 +433,29 @@ def _reserved_message(word: str) -> str:
     )
 
 
+def _line_text(text: str, number: int) -> str:
+    """Line `number` (1-based) without splitting the whole text (it may be huge)."""
+    start = 0
+    for _ in range(number - 1):
+        start = text.find("\n", start) + 1
+        if start == 0:
+            return ""
+    end = text.find("\n", start)
+    return text[start:] if end < 0 else text[start:end]
+
+
 def _excerpt(text: str, span: Span) -> str:
-    lines = text.split("\n")
-    line = lines[span.line - 1] if 0 < span.line <= len(lines) else ""
+    line = _line_text(text, span.line) if span.line > 0 else ""
+    column = span.column
+    if len(line) > 2 * _EXCERPT_HALF + 1:
+        # a long line: the part around the column, the cuts marked with `...`
+        lo = max(0, column - 1 - _EXCERPT_HALF)
+        hi = min(len(line), column - 1 + _EXCERPT_HALF)
+        head = "..." if lo > 0 else ""
+        line = head + line[lo:hi] + ("..." if hi < len(line) else "")
+        column = column - lo + len(head)
     # keep tabs so the caret lines up under the offending character in a terminal
-    pad = "".join(ch if ch == "\t" else " " for ch in line[: span.column - 1])
+    pad = "".join(ch if ch == "\t" else " " for ch in line[: column - 1])
     return f"{line}\n{pad}^"
 
 
@@ -398,8 +471,8 @@ def _describe_found(tok: Token) -> str:
     if tok.type == "ARROW_LINE":
         return "an arrow statement"
     if tok.type == "STRING":
-        return f"the string {tok}"
-    return f"`{tok}`"
+        return f"the string {_quote(tok)}"
+    return f"`{_quote(tok)}`"
 
 
 def _alternatives(expected: set[str]) -> str:
@@ -409,9 +482,9 @@ def _alternatives(expected: set[str]) -> str:
             "`label`, `period`, `analysis`)"
         )
     words = []
-    if {"EXPOSURE", "OUTCOME", "ADJUST"} <= expected:
-        words.append("`exposure:`, `outcome:` or `adjust:`")
-        expected = expected - {"EXPOSURE", "OUTCOME", "ADJUST"}
+    if set(_ENTRY_KEYS) <= expected:
+        words.append(_ENTRY_KEY_WORDS)
+        expected = expected - set(_ENTRY_KEYS)
     for term in _ORDER:
         if term in expected:
             words.append(_WORDS.get(term) or f"`{_KEYWORDS.get(term, term.lower())}`")
@@ -428,7 +501,7 @@ def _previous_tokens(text: str, upto: int, from_line_start: bool = True) -> list
     Statements are lines, so the tokens of the error's own line are enough, except
     when looking for an unclosed `{` (then the whole text before the error).
     """
-    lark, _ = _parser()
+    lark = _token_lexer()
     start = text.rfind("\n", 0, upto) + 1 if from_line_start else 0
     if from_line_start and upto - start > 4096:
         # a huge line: the last few thousand characters, cut at a space, suffice
@@ -439,6 +512,15 @@ def _previous_tokens(text: str, upto: int, from_line_start: bool = True) -> list
             out.append(tok)
     except UnexpectedInput:
         pass
+    # positions in the file, not in the slice
+    line_start = text.rfind("\n", 0, start) + 1
+    lines_before = text.count("\n", 0, start)
+    for tok in out:
+        if tok.line == 1:
+            tok.column += start - line_start
+            tok.end_column += start - line_start
+        tok.line += lines_before
+        tok.end_line += lines_before
     return out
 
 
@@ -488,23 +570,85 @@ def _explain(text: str, e: UnexpectedInput) -> SyntaxProblem:
                 "this `{` opens an analysis block that is never closed: "
                 "add a line with `}` after its entries",
             )
-    if tok.type in _KEYWORDS and "NAME" in expected:
+    line_tokens = [t for t in before if t.type != "EOL"]
+    first = line_tokens[0] if line_tokens else None
+    in_entry = first is not None and first.type in _ENTRY_KEYS
+    if tok.type == "NONE" and "NAME" in expected and "NONE" not in expected:
         return _problem(text, span, _reserved_message(str(tok)))
+    if "EFFECT_KIND" in expected:
+        return _problem(
+            text,
+            span,
+            f"`effect:` takes one of {_WORDS['EFFECT_KIND']}, found {_describe_found(tok)}",
+        )
+    if first is not None and first.type == "EFFECT" and tok.type != "EOL":
+        return _problem(text, span, "`effect:` takes a single effect; end the line after it")
+    if (
+        prev is not None
+        and (prev.type == "NAME" or (prev is not first and _NAME_RE.fullmatch(str(prev))))
+        and _NAME_RE.fullmatch(str(tok)) is not None
+        and expected & {"COMMA", "ARROW"}
+    ):
+        # `exposure: Bike commute`, `adjust: age incom`, `unmeasured a b`, `a b -> c`
+        joined = f"{prev}_{tok}"
+        listed = f"{prev}, {tok}"
+        where = "inside an analysis entry, " if in_entry else ""
+        return _problem(
+            text,
+            span,
+            f"{where}a name cannot contain a space, and the names of a list are separated "
+            f"by commas: write `{_quote(joined)}` for one variable or `{_quote(listed)}` "
+            "for two",
+        )
     if tok.type == "ARROW_LINE" and "RBRACE" in expected:
         return _problem(
             text, span, "arrows go outside analysis blocks: close the block with `}` first"
         )
-    if tok.type == "NAME" and {"EXPOSURE", "OUTCOME", "ADJUST"} <= expected:
+    if tok.type in ("NAME", *_KEYWORDS) and set(_ENTRY_KEYS) <= expected:
+        rest = _line_text(text, span.line)[span.column - 1 :]
+        if "->" in rest:
+            return _problem(
+                text, span, "arrows go outside analysis blocks: close the block with `}` first"
+            )
         return _problem(
             text,
             span,
-            f"unknown key `{tok}`: an analysis block holds `exposure:`, `outcome:` and "
-            "`adjust:` lines, and ends with `}`",
+            f"unknown key `{_quote(tok)}`: an analysis block holds {_ENTRY_KEY_WORDS} lines, "
+            "and ends with `}`",
+        )
+    if (
+        first is not None
+        and prev is first
+        and first.type in _STATEMENT_STARTERS
+        and tok.type in ("ARROW", "COMMA")
+    ):
+        # `period -> x` is an arrow line (ARROW_LINE) when well formed; this one is not,
+        # so find its error with the word read as a plain name.
+        line = _line_text(text, first.line)
+        cut = first.column - 1
+        stand_in = line[:cut] + "v" * len(first) + line[cut + len(first) :]
+        _, inner = parse_source(stand_in, "<line>")
+        if inner is not None:
+            where = Span(first.line, inner.span.column, first.line, inner.span.end_column)
+            return _problem(text, where, inner.message)
+    if (
+        tok.type == "COLON"
+        and prev is not None
+        and prev is first
+        and str(prev) in _ENTRY_KEY_NAMES
+        and "ARROW" in expected
+    ):
+        # `exposure: smoking` outside an analysis block
+        return _problem(
+            text,
+            _span(prev),
+            f"`{prev}:` lines go inside an analysis block: "
+            f"`analysis {{`, then `{prev}: ...` and the other keys, then `}}`",
         )
     found = _describe_found(tok)
     alternatives = _alternatives(expected)
     if prev is None or prev.type == "EOL" or prev.type == "ARROW_LINE":
         msg = f"expected {alternatives}, found {found}"
     else:
-        msg = f"expected {alternatives} after `{str(prev).rstrip()}`, found {found}"
+        msg = f"expected {alternatives} after `{_quote(str(prev))}`, found {found}"
     return _problem(text, span, msg)

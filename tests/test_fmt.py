@@ -61,7 +61,10 @@ def meaning(text: str | bytes) -> list[tuple]:
             what, line = ("title", s.text), s.span.line
         else:
             assert isinstance(s, Analysis)
-            entries = tuple((e.key, tuple(n.text for n in e.names), e.is_none) for e in s.entries)
+            entries = tuple(
+                (e.key, tuple(n.text for n in e.names), e.is_none, e.value and e.value.text)
+                for e in s.entries
+            )
             what, line = ("analysis", s.name, s.name_token is None, entries), s.header.line
             items.extend((e.span.line, 1, ("entry", e.key)) for e in s.entries)
             items.append((s.closing_line, 1, ("end", s.name)))
@@ -166,8 +169,12 @@ def test_empty_and_comment_only_files():
 
 NAMES = st.sampled_from(
     ["age", "sick_days", "enrolled", "fitness_base", "_hidden", "bmi.baseline", "größe", "x1",
-     "canopy", "heat_admissions", "Shift.Work", "nonea", "labels"]
+     "canopy", "heat_admissions", "Shift.Work", "nonea", "labels",
+     # keywords are names wherever a name is expected (the lexer is contextual)
+     "exposure", "outcome", "period", "label", "title", "analysis", "effect", "mediator",
+     "restricted", "total", "adjust", "unmeasured"]
 )  # fmt: skip
+EFFECT_KINDS = st.sampled_from(["total", "controlled-direct", "natural-direct", "natural-indirect"])
 SPACE = st.sampled_from(["", " ", "  ", "\t", " \t "])
 SPACE1 = st.sampled_from([" ", "  ", "\t", " \t "])  # where a space is required
 _TEXT_CHAR = st.characters(
@@ -235,14 +242,21 @@ def analysis_block(draw):
     name = draw(st.one_of(st.just(""), NAMES.map(lambda n: " " + n)))
     lines = [draw(SPACE) + "analysis" + name + draw(SPACE) + "{" + draw(trailing())]
     keys = ["exposure", "outcome"] + draw(
-        st.lists(st.sampled_from(["adjust", "exposure"]), max_size=2)
+        st.lists(st.sampled_from(["adjust", "exposure", "restricted", "mediator"]), max_size=3)
     )
+    effect = draw(st.one_of(st.none(), EFFECT_KINDS))
+    if effect is not None:
+        keys.append("effect")
+        if effect != "total" and "mediator" not in keys:
+            keys.append("mediator")  # a direct or indirect effect needs its mediators
     keys = draw(st.permutations(keys))
     for key in keys:
         for _ in range(draw(st.integers(0, 2))):
             lines.append(draw(st.sampled_from(["", draw(SPACE) + draw(COMMENT)])))
         if key == "adjust" and draw(st.booleans()):
             value = "none"
+        elif key == "effect":
+            value = effect
         else:
             value = draw(name_list())
         lines.append(draw(SPACE) + key + draw(SPACE) + ":" + draw(SPACE) + value + draw(trailing()))

@@ -42,6 +42,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--method", choices=("pearson", "spearman"), default="pearson",
                    help="correlation for numeric columns: pearson (linear) or spearman "
                    "(ranks; with --data; default pearson)")  # fmt: skip
+    from ..data import add_reading_arguments
+
+    add_reading_arguments(p)
 
 
 def _warn(message: str) -> None:
@@ -79,9 +82,10 @@ def run(args: argparse.Namespace) -> int:
                 _warn(f"no .dag files found in {where}")
     table, options = None, None
     if args.data:
-        from ..data import DataOptions, load_data
+        from ..data import DataOptions, load_data, reading_options
 
-        table = load_data(args.data)
+        # the [tool.dagward.data] table that applies where the data file lies
+        table = load_data(args.data, reading_options(args, finder.for_file(args.data)))
         options = DataOptions(args.alpha, args.min_effect, args.method, args.data)
     findings = []
     failing = False

@@ -88,6 +88,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "was cut")  # fmt: skip
     # The table is plain ASCII now; --ascii stays accepted so old scripts still run.
     p.add_argument("--ascii", action="store_true", help=argparse.SUPPRESS)
+    from ..data import add_reading_arguments
+
+    add_reading_arguments(p)
 
 
 PROGRESS_EVERY = 0.2  # seconds between two progress updates on a terminal
@@ -199,12 +202,12 @@ def run(args: argparse.Namespace) -> int:
     findings = []
     rejected_severity = None
     if args.data:
-        from ..data import load_data, run_tests
+        from ..data import load_data, reading_options, run_tests
         from ..rules import independence_rejected, missing_column
         from ..rules.base import Context
 
         options = DataOptions(args.alpha, args.min_effect, args.method, args.data)
-        table = load_data(args.data)
+        table = load_data(args.data, reading_options(args, settings))
         # missing-column gives its messages here; the rejections are read from the
         # results below (running the rule would test everything twice).
         if settings.is_enabled(missing_column.RULE):

@@ -1,12 +1,15 @@
 """missing-column: a measured variable that the analysis needs is not in the data.
 
 With `--data`, every measured variable used by an analysis (its `exposure:`,
-`outcome:` and `adjust:` names) must be a column of the data file, spelled
-exactly as in the diagram. In a file with no analysis, the variables of the
-implied independencies must be columns instead. The finding points at the
-variable's first appearance in the file and suggests close column names
-(a different case, a typo). Unmeasured variables are never expected in the
-data. Rename the column or the variable so that they match.
+`outcome:`, `adjust:` and `mediator:` names) must be a column of the data
+file, spelled exactly as in the diagram. (`restricted:` names are not: data
+restricted on a variable often lack it, since it would hold one value.) In a
+file with no analysis, the variables of the implied independencies must be
+columns instead. The finding points at the variable's first appearance in the
+file and suggests close column names (a different case, a typo). When no
+needed variable at all is a column, the message adds that the separator is the
+likely cause (set it with `--sep`). Unmeasured variables are never expected in
+the data. Rename the column or the variable so that they match.
 
 Data::
 
@@ -64,6 +67,10 @@ def _needed(ctx: Context) -> dict[str, Analysis | None]:
     if diagram.analyses:
         for analysis in diagram.analyses:
             for entry in analysis.entries:
+                if entry.key == "restricted":
+                    # data restricted on a variable often lack it as a column (it
+                    # would hold one value): that is not a missing column
+                    continue
                 for n in entry.names:
                     if n.text in diagram.measured:
                         needed.setdefault(n.text, analysis)
@@ -82,12 +89,24 @@ def check(ctx: Context) -> Iterator[Finding]:
         return
     columns = list(table.columns())
     source = getattr(ctx.data_options, "source", None) or getattr(table, "source", "the data")
-    for name, analysis in _needed(ctx).items():
-        if table.has_column(name):
-            continue
+    needed = _needed(ctx)
+    absent = [name for name in needed if not table.has_column(name)]
+    # When not one needed variable is a column, the file was most likely split at
+    # the wrong character (a semicolon file read with commas): say so once.
+    separator_hint = ""
+    if len(absent) == len(needed) > 1:
+        separator_hint = (
+            f"; no variable of the diagram is a column of {source}, so the file was most "
+            f"likely split at the wrong separator (its header reads as {len(columns)} "
+            f"column{'s' if len(columns) != 1 else ''}: {_header_excerpt(columns)}); "
+            "set it with --sep"
+        )
+    for name in absent:
+        analysis = needed[name]
         first = ctx.diagram.variables[name]
         close = close_columns(name, columns)
         hint = f"; did you mean {' or '.join(f'`{c}`' for c in close)}?" if close else ""
+        hint += separator_hint
         used = (
             f"analysis `{analysis.name}` uses it" if analysis else "an implied independence uses it"
         )
@@ -98,6 +117,11 @@ def check(ctx: Context) -> Iterator[Finding]:
             f"variable so that they match{hint}",
             analysis=analysis,
         )
+
+
+def _header_excerpt(columns: list[str], limit: int = 60) -> str:
+    text = ", ".join(f"`{c}`" for c in columns)
+    return text if len(text) <= limit else text[: limit - 3] + "..."
 
 
 RULE = Rule(
