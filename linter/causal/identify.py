@@ -146,12 +146,17 @@ def latent_projection(G: nx.DiGraph, measured: Iterable[str]) -> Projection:
 
 @dataclass(frozen=True)
 class Hedge:
-    """Why an effect is not identified: two c-forests, ``inner`` inside ``outer``
-    (Shpitser & Pearl 2006, Definition 5 and Theorem 4).
+    """Why an effect is not identified: the two sets where ID stops, ``inner``
+    inside ``outer``, which contain a hedge (Shpitser & Pearl 2006, line 5 of
+    ID and their Theorem on its failure; from memory).
 
-    ``outer`` (F) is one c-component whose only root set lies among the
-    outcomes' ancestors and that contains intervened variables
-    (``intervened``); ``inner`` (F') is F without them.  ``arcs`` are the
+    ``outer`` (F) is one c-component of ancestors of the outcomes that
+    contains intervened variables (``intervened``: exposures, or variables
+    the algorithm added to them because intervening on them cannot change
+    the outcome); ``inner`` (F') is F without them, also one c-component.
+    The effect of ``intervened`` on F' differs between two models that agree
+    on the observed distribution, and that carries over to the effect asked
+    about.  ``arcs`` are the
     bidirected pairs inside F (measured names, sorted), ``arrows`` its
     arrows, ``unmeasured`` the named unmeasured variables behind the arcs.
     The structure is meant for messages and for drawing.

@@ -45,3 +45,37 @@ def oracle_instrument_sets(G: nx.DiGraph, x: str, Y: set[str], measured, z: str)
                 continue
             out.append(frozenset(W))
     return out
+
+
+def oracle_projection(G: nx.DiGraph, measured) -> tuple[set[tuple[str, str]], set[frozenset[str]]]:
+    """The latent projection by definition (Verma & Pearl 1990): arrows a -> b
+    for a directed path whose inner variables are all unmeasured, arcs a <-> b
+    for an unmeasured h with such paths to both.  Enumerates paths."""
+    obs = set(measured) & {v for v in G if not G.nodes[v].get("hidden")}
+    hidden = set(G) - obs
+
+    def reach_through_hidden(start: str) -> set[str]:
+        out = set()
+        for b in obs:
+            if b == start:
+                continue
+            for p in nx.all_simple_paths(G, start, b):
+                if all(v in hidden for v in p[1:-1]):
+                    out.add(b)
+                    break
+        return out
+
+    arrows = {(a, b) for a in obs for b in reach_through_hidden(a)}
+    arcs = set()
+    for h in hidden:
+        r = sorted(reach_through_hidden(h))
+        arcs |= {frozenset((a, b)) for i, a in enumerate(r) for b in r[i + 1 :]}
+    return arrows, arcs
+
+
+def districts(nodes, arcs) -> list[set[str]]:
+    """Connected components of ``nodes`` under the bidirected pairs ``arcs``."""
+    U = nx.Graph()
+    U.add_nodes_from(nodes)
+    U.add_edges_from(tuple(a) for a in arcs if set(a) <= set(nodes))
+    return [set(c) for c in nx.connected_components(U)]
