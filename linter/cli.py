@@ -21,6 +21,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "linter.commands.independencies",
         "independencies the diagram implies, optionally tested against data",
     ),
+    "identify": (
+        "linter.commands.identify",
+        "whether each effect is identified at all, by what formula, and the instruments",
+    ),
     "paths": ("linter.commands.paths", "every path between exposure and outcome, and its status"),
     "diff": ("linter.commands.diff", "what a change to the diagrams means, between git revisions"),
     "render": ("linter.commands.render", "draw a diagram (.dot, .mmd, .svg, .png)"),

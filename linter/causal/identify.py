@@ -172,7 +172,7 @@ class Hedge:
     def to_json(self) -> dict:
         return {
             "variables": sorted(self.outer),
-            "without_exposures": sorted(self.inner),
+            "without_intervened": sorted(self.inner),
             "intervened": sorted(self.intervened),
             "arrows": [list(a) for a in self.arrows],
             "bidirected": [list(a) for a in self.arcs],

@@ -22,6 +22,11 @@ def render_estimand(e: Expr, style: Style = "text") -> str:
     return _write(e, style, {}, used)
 
 
+def variable_name(v: str, style: Style = "text") -> str:
+    """A variable's name as the formulas write it (``\\mathit{...}`` in LaTeX)."""
+    return _name(v, {}, style)
+
+
 def _fresh(v: str, used: set[str]) -> str:
     name = v + "'"
     while name in used:
@@ -98,4 +103,4 @@ def _wrap(e: Expr, text: str) -> str:
     return text if isinstance(e, Prob) else f"({text})"
 
 
-__all__ = ["render_estimand"]
+__all__ = ["render_estimand", "variable_name"]
