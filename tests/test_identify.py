@@ -413,3 +413,20 @@ def test_instruments_agree_with_the_brute_force_oracle():
                     found += 1
                     conditional += bool(got[(x, z)])
     assert found > 100 and conditional > 20
+
+
+def test_front_door_back_door_reach_matches_d_separation():
+    # front_door_set's one-pass test of "no open back-door path from x to m"
+    # against the d-separation routine it replaces, on random diagrams.
+    from linter.causal.dsep import ArrowCut, d_separated_cut
+    from linter.causal.separators import _back_door_reach
+
+    rng = random.Random(13)
+    for _ in range(500):
+        G, _m, X, _Y = random_diagram(rng, max_nodes=8, max_arcs=4)
+        for x in sorted(v for v in G if not G.nodes[v].get("hidden"))[:3]:
+            reach = _back_door_reach(G, x)
+            for v in G:
+                if v != x:
+                    open_ = not d_separated_cut(G, {x}, {v}, set(), ArrowCut({x}), proper=False)
+                    assert open_ == (v in reach)

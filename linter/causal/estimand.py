@@ -157,27 +157,34 @@ def product(factors: Iterable[Expr]) -> Expr:
 
 
 def _chain_merge(factors: list[Expr]) -> list[Expr]:
-    """P(a | b, c) P(b | c) -> P(a, b | c), repeatedly (the chain rule)."""
+    """P(a | b, c) P(b | c) -> P(a, b | c), repeatedly (the chain rule).
+
+    f = P(A | B u C) pairs with g = P(B | C) exactly when f's conditioning
+    set is g's variables and conditioning set together, so a dict keyed by
+    conditioning sets finds the pairs of a pass in linear time.
+    """
+    probs = [f for f in factors if isinstance(f, Prob)]
+    others = [f for f in factors if not isinstance(f, Prob)]
     changed = True
     while changed:
         changed = False
-        probs = [(i, f) for i, f in enumerate(factors) if isinstance(f, Prob)]
-        for i, f in probs:
-            for j, g in probs:
-                if i == j:
-                    continue
-                # f = P(A | B u C), g = P(B | C)
-                if g.vars <= f.given and g.given <= f.given and not (g.vars & g.given):
-                    rest = f.given - g.vars
-                    if rest == g.given:
-                        merged = Prob(f.vars | g.vars, g.given)
-                        factors = [h for k, h in enumerate(factors) if k not in (i, j)]
-                        factors.append(merged)
-                        changed = True
-                        break
-            if changed:
-                break
-    return factors
+        by_given: dict[frozenset[str], list[int]] = {}
+        for i, f in enumerate(probs):
+            by_given.setdefault(f.given, []).append(i)
+        used: set[int] = set()
+        merged: list[Expr] = []
+        for j, g in enumerate(probs):
+            if j in used:
+                continue
+            for i in by_given.get(g.vars | g.given, ()):
+                if i != j and i not in used:
+                    used.update((i, j))
+                    merged.append(Prob(probs[i].vars | g.vars, g.given))
+                    changed = True
+                    break
+        if changed:
+            probs = [p for k, p in enumerate(probs) if k not in used] + merged
+    return probs + others
 
 
 def _simplify_product(e: Product) -> Expr:
@@ -205,24 +212,33 @@ def _simplify_sum(e: Sum) -> Expr:
     # remove a variable together with the term it heads; so none is left
     # that would multiply by the number of its values.
     over &= set().union(*fvs) if fvs else set()
-    changed = True
-    while changed and over:
-        changed = False
-        for v in sorted(over):
-            users = [i for i, s in enumerate(fvs) if v in s]
-            if len(users) != 1:
-                continue
-            f = factors[users[0]]
-            if isinstance(f, Prob) and v in f.vars:
-                # sum over v of P(v, a | c) = P(a | c); the empty term is 1
-                g = Prob(f.vars - {v}, f.given)
-                factors[users[0]] = g
-                fvs[users[0]] = g.vars | g.given if g.vars else frozenset()
-                if not g.vars:
-                    factors[users[0]] = ONE
-                over.discard(v)
-                changed = True
-                break
+    # which factors mention each summed variable
+    occurs: dict[str, set[int]] = {}
+    for i, s in enumerate(fvs):
+        for v in s & over:
+            occurs.setdefault(v, set()).add(i)
+    work = sorted(over, reverse=True)
+    while work:
+        v = work.pop()
+        users = occurs.get(v, ())
+        if v not in over or len(users) != 1:
+            continue
+        (i,) = users
+        f = factors[i]
+        if not (isinstance(f, Prob) and v in f.vars):
+            continue
+        # sum over v of P(v, a | c) = P(a | c); the empty term is 1
+        over.discard(v)
+        g = Prob(f.vars - {v}, f.given)
+        if g.vars:
+            factors[i] = g
+            fvs[i] = g.vars | g.given
+        else:
+            factors[i] = ONE
+            for u in fvs[i] & over:  # they lost a user: perhaps one is left
+                occurs[u].discard(i)
+                work.append(u)
+            fvs[i] = frozenset()
     keep = [(f, s) for f, s in zip(factors, fvs, strict=True) if f != ONE]
     inside = [f for f, s in keep if s & over]
     outside = [f for f, s in keep if not (s & over)]

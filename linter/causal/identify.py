@@ -316,13 +316,25 @@ def _id(proj: Projection, X: frozenset[str], Y: frozenset[str]) -> Expr | Hedge:
                 continue
             comps = g.districts(V - x)
             if len(comps) > 1:  # line 4: one factor per c-component of G[V - x]
+                # With the observed distribution over an ancestral V, a
+                # component that is also a c-component of G[V] needs no call:
+                # its factor is Q[c], the product of its variables'
+                # conditionals (Tian & Pearl 2002, Lemma 1), which is what the
+                # call would return, and skipping it saves an ancestor search
+                # over V per component on large diagrams.
+                whole_set = set(g.districts(V)) if P is None else set()
                 kids = []
-                for _c in comps:
+                calls = []
+                for c in comps:
                     results.append(None)
-                    kids.append(len(results) - 1)
+                    k = len(results) - 1
+                    kids.append(k)
+                    if c in whole_set:
+                        results[k] = product(g.conditional(None, v, V) for v in g.sorted(c))
+                    else:
+                        calls.append(("call", k, c, V - c, P, V))
                 stack.append(("join", slot, kids, V - (y | x)))
-                for k, c in zip(kids, comps, strict=True):
-                    stack.append(("call", k, c, V - c, P, V))
+                stack.extend(calls)
                 break
             (S,) = comps
             whole = g.districts(V)
