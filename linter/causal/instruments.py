@@ -43,7 +43,7 @@ from dataclasses import dataclass
 import networkx as nx
 
 from .adjustment import _cn_cached, _descendants_cached, _roles, proper_backdoor_skip
-from .dsep import d_separated_cut
+from .dsep import ancestor_mask, d_separated_cut
 from .indexed import indexed
 from .separators import _close_to, _moral_ids
 
@@ -61,7 +61,8 @@ class Instrument:
 
 
 def instrument_given(
-    G: nx.DiGraph, x: str, Y: Iterable[str], measured: Iterable[str], z: str
+    G: nx.DiGraph, x: str, Y: Iterable[str], measured: Iterable[str], z: str,
+    _cache: dict | None = None,
 ) -> frozenset[str] | None:
     """A set W for which z is an instrument for x (see the module docstring), or None."""
     X, Y = _roles(G, {x}, Y)
@@ -69,20 +70,39 @@ def instrument_given(
     if z not in measured or z in X or z in Y or z in _descendants_cached(G, X):
         return None
     cn = _cn_cached(G, X, Y)
-    forb = _descendants_cached(G, set(cn)) if cn else frozenset()
     cut = proper_backdoor_skip(X, cn)
     ix = indexed(G)
     names = ix.names
-    excluded = X | Y | {z}
+    cache = {} if _cache is None else _cache
+    key = (x, frozenset(Y), measured)
+    if cache.get("key") != key:
+        # the moral graphs depend on z only through An(z); when z is an
+        # ancestor of Y (or of x and Y) they are shared by every such z
+        forb = _descendants_cached(G, set(cn)) if cn else frozenset()
+        allowed = bytearray(ix.n)
+        for name in measured - X - Y - forb:
+            allowed[ix.index[name]] = 1
+        cache.clear()
+        cache.update(key=key, allowed=allowed, graphs={},
+                     an_y=ancestor_mask(ix, Y, cut), an_xy=ancestor_mask(ix, X | Y, cut))
+    zi = ix.index[z]
     tried: set[frozenset[str]] = set()
-    for seeds in (Y | {z}, X | Y | {z}):
-        nbrs, vertices = _moral_ids(ix, seeds, cut)
-        removable = bytearray(ix.n)
-        for v in vertices:
-            name = names[v]
-            if name in measured and name not in excluded and name not in forb:
-                removable[v] = 1
-        sep = _close_to(nbrs, ix.ids(Y), [ix.index[z]], removable)
+    for seeds, shared in ((Y | {z}, "an_y"), (X | Y | {z}, "an_xy")):
+        gkey = frozenset(seeds - {z}) if cache[shared][zi] else frozenset(seeds)
+        got = cache["graphs"].get(gkey)
+        if got is None:
+            nbrs, vertices = _moral_ids(ix, gkey, cut)
+            removable = bytearray(ix.n)
+            allowed = cache["allowed"]
+            for v in vertices:
+                removable[v] = allowed[v]
+            got = (nbrs, removable)
+            if gkey != frozenset(seeds) or len(cache["graphs"]) < 2:
+                cache["graphs"][gkey] = got
+        nbrs, base = got
+        removable = bytearray(base)
+        removable[zi] = 0
+        sep = _close_to(nbrs, ix.ids(Y), [zi], removable)
         if sep is None:
             continue
         W = frozenset(names[v] for v in sep)
@@ -104,6 +124,7 @@ def instruments(
     X, Y = _roles(G, exposures, outcomes)
     measured = frozenset(measured)
     out = []
+    cache: dict = {}
     for x in sorted(X):
         # the other exposures are neither candidates nor conditioned on
         usable = measured - (X - {x})
@@ -113,7 +134,7 @@ def instruments(
             if _unconditional(G, x, Y, z):
                 out.append(Instrument(x, z, frozenset()))
                 continue
-            W = instrument_given(G, x, Y, usable, z)
+            W = instrument_given(G, x, Y, usable, z, cache)
             if W is not None:
                 out.append(Instrument(x, z, W))
     return out
