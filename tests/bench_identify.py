@@ -70,12 +70,18 @@ def main() -> None:
         for seed in range(3):
             G, measured, X, Y = diagram(n, 50, seed)
             routes.append(identify_effect(G, X, Y, measured).route)
-            worst["identify_effect"] = max(worst["identify_effect"],
-                                           best(lambda: identify_effect(G, X, Y, measured)))
-            worst["ID alone"] = max(worst["ID alone"],
-                                    best(lambda: general_identification(G, X, Y, measured)))
-            worst["instruments"] = max(worst["instruments"],
-                                       best(lambda: instruments(G, X, Y, measured), repeat=1))
+            worst["identify_effect"] = max(
+                worst["identify_effect"],
+                best(lambda G=G, X=X, Y=Y, m=measured: identify_effect(G, X, Y, m)),
+            )
+            worst["ID alone"] = max(
+                worst["ID alone"],
+                best(lambda G=G, X=X, Y=Y, m=measured: general_identification(G, X, Y, m)),
+            )
+            worst["instruments"] = max(
+                worst["instruments"],
+                best(lambda G=G, X=X, Y=Y, m=measured: instruments(G, X, Y, m), repeat=1),
+            )
         rows[n] = worst
         print(f"{n:>5} variables, 50 <-> pairs (routes {', '.join(routes)}):")
         for k, v in worst.items():
@@ -84,8 +90,10 @@ def main() -> None:
         ratio = rows[1000][k] / rows[100][k] if rows[100][k] else float("nan")
         print(f"growth 100 -> 1,000 variables, {k}: x{ratio:.1f}")
     goal = rows[1000]["identify_effect"]
-    print(f"goal: identify_effect on 1,000 variables under 2 s: {goal:.3f} s "
-          f"({'met' if goal < 2 else 'NOT met'})")
+    print(
+        f"goal: identify_effect on 1,000 variables under 2 s: {goal:.3f} s "
+        f"({'met' if goal < 2 else 'NOT met'})"
+    )
 
 
 if __name__ == "__main__":

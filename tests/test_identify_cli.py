@@ -25,8 +25,10 @@ def test_front_door_fixture_text_and_json():
     run = dagward("identify", str(path))
     assert run.code == 0
     assert "identified by the front-door criterion through {step_count}" in run.out
-    assert ("P(sick_days | do(enrolled)) = sum over step_count of P(step_count | enrolled) * "
-            "sum over enrolled' of P(sick_days | enrolled', step_count) P(enrolled')") in run.out
+    assert (
+        "P(sick_days | do(enrolled)) = sum over step_count of P(step_count | enrolled) * "
+        "sum over enrolled' of P(sick_days | enrolled', step_count) P(enrolled')"
+    ) in run.out
     (a,) = _json(path)
     assert a["route"] == "front-door" and a["front_door_set"] == ["step_count"]
     assert from_json(a["estimand"]) == front_door_formula("enrolled", "sick_days", {"step_count"})
@@ -60,7 +62,9 @@ def test_bow_reports_the_hedge_and_the_instrument():
     assert a["hedge"]["variables"] == ["enrolled", "sick_days"]
     assert a["hedge"]["bidirected"] == [["enrolled", "sick_days"]]
     assert a["hedge"]["unmeasured"] == ["motivation"]
-    assert a["instruments"] == [{"exposure": "enrolled", "variable": "distance_to_gym", "given": []}]
+    assert a["instruments"] == [
+        {"exposure": "enrolled", "variable": "distance_to_gym", "given": []}
+    ]
 
 
 def test_napkin_latex_and_unicode():
@@ -84,7 +88,24 @@ def test_usage_errors_exit_2_with_one_line():
 
 def test_output_file_is_written(tmp_path):
     out = tmp_path / "answer.tex"
-    run = dagward("identify", str(FIX / "identify" / "napkin.dag"), "--format", "latex",
-                  "--output", str(out))
+    run = dagward(
+        "identify", str(FIX / "identify" / "napkin.dag"), "--format", "latex", "--output", str(out)
+    )
     assert run.code == 0 and run.out == ""
     assert out.read_text().startswith("% dagward identify:")
+
+
+def test_instrument_search_is_skipped_above_the_limit(monkeypatch):
+    import linter.commands.identify as command
+
+    result = read_and_lint(str(FIX / "identify" / "bow.dag"), Settings())
+    (a,) = result.diagram.analyses
+    assert command.report_for(result.diagram, a)["instruments"] == [
+        {"exposure": "enrolled", "variable": "distance_to_gym", "given": []}
+    ]
+    monkeypatch.setattr(command, "INSTRUMENT_SEARCH_LIMIT", 2)
+    report = command.report_for(result.diagram, a)
+    assert report["instruments"] is None
+    assert "instruments: not searched (more than 2 measured variables" in command.render_text(
+        "bow.dag", [report], False
+    )

@@ -29,7 +29,6 @@ from __future__ import annotations
 from collections import Counter
 from collections.abc import Iterable
 from dataclasses import dataclass
-from typing import Union
 
 
 @dataclass(frozen=True)
@@ -61,7 +60,7 @@ class Ratio:
     denominator: Expr
 
 
-Expr = Union[Prob, Product, Sum, Ratio]
+Expr = Prob | Product | Sum | Ratio
 ONE = Product(())
 
 
@@ -328,6 +327,7 @@ def front_door_formula(x: str, y: str, M: Iterable[str]) -> Expr:
 
 def to_json(e: Expr) -> dict:
     """The tree as JSON-ready data (lists sorted; a sum binds ``over`` inside ``of``)."""
+
     def node(n: Expr, kids: list[dict]) -> dict:
         if isinstance(n, Prob):
             return {"type": "p", "of": sorted(n.vars), "given": sorted(n.given)}

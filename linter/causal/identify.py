@@ -85,9 +85,7 @@ class Projection:
 
     def arcs(self, within: Iterable[str]) -> list[tuple[str, str]]:
         inside = set(within)
-        return sorted(
-            (a, b) for a in inside for b in self.bidirected[a] if b in inside and a < b
-        )
+        return sorted((a, b) for a in inside for b in self.bidirected[a] if b in inside and a < b)
 
 
 def latent_projection(G: nx.DiGraph, measured: Iterable[str]) -> Projection:
@@ -215,7 +213,9 @@ class _Graph:
         self.pa = proj.parents
         self.bi = proj.bidirected
 
-    def ancestors(self, ys: Iterable[str], V: frozenset[str], cut_into: frozenset[str] = frozenset()) -> frozenset[str]:
+    def ancestors(
+        self, ys: Iterable[str], V: frozenset[str], cut_into: frozenset[str] = frozenset()
+    ) -> frozenset[str]:
         """An(ys) in G[V], with the arrows into ``cut_into`` removed."""
         pa = self.pa
         seen = set(ys)

@@ -61,7 +61,11 @@ class Instrument:
 
 
 def instrument_given(
-    G: nx.DiGraph, x: str, Y: Iterable[str], measured: Iterable[str], z: str,
+    G: nx.DiGraph,
+    x: str,
+    Y: Iterable[str],
+    measured: Iterable[str],
+    z: str,
     _cache: dict | None = None,
 ) -> frozenset[str] | None:
     """A set W for which z is an instrument for x (see the module docstring), or None."""
@@ -83,8 +87,13 @@ def instrument_given(
         for name in measured - X - Y - forb:
             allowed[ix.index[name]] = 1
         cache.clear()
-        cache.update(key=key, allowed=allowed, graphs={},
-                     an_y=ancestor_mask(ix, Y, cut), an_xy=ancestor_mask(ix, X | Y, cut))
+        cache.update(
+            key=key,
+            allowed=allowed,
+            graphs={},
+            an_y=ancestor_mask(ix, Y, cut),
+            an_xy=ancestor_mask(ix, X | Y, cut),
+        )
     zi = ix.index[z]
     tried: set[frozenset[str]] = set()
     for seeds, shared in ((Y | {z}, "an_y"), (X | Y | {z}, "an_xy")):

@@ -135,8 +135,10 @@ def render_text(file: str, reports: list[dict], unicode: bool) -> str:
 
 def _instrument_lines(ivs: list[dict] | None) -> list[str]:
     if ivs is None:
-        return [f"  instruments: not searched (more than {INSTRUMENT_SEARCH_LIMIT:,} measured "
-                "variables; linter.causal.instruments.instruments does it from Python)"]  # fmt: skip
+        return [
+            f"  instruments: not searched (more than {INSTRUMENT_SEARCH_LIMIT:,} measured "
+            "variables; linter.causal.instruments.instruments does it from Python)"
+        ]
     if not ivs:
         return ["  instruments: none among the measured variables"]
     out = ["  instruments:"]

@@ -9,8 +9,14 @@ import networkx as nx
 from linter.causal import hidden_node_name
 
 
-def random_diagram(rng: random.Random, min_nodes: int = 3, max_nodes: int = 7,
-                   max_arcs: int = 3, max_unmeasured: int = 2, max_roles: int = 2):
+def random_diagram(
+    rng: random.Random,
+    min_nodes: int = 3,
+    max_nodes: int = 7,
+    max_arcs: int = 3,
+    max_unmeasured: int = 2,
+    max_roles: int = 2,
+):
     """(G, measured, X, Y): a random DAG over v0..v{n-1} (index order is a
     topological order) with hidden ``<->`` parents, a few unmeasured
     variables, and disjoint measured exposures X and outcomes Y."""
@@ -44,5 +50,7 @@ def random_diagram(rng: random.Random, min_nodes: int = 3, max_nodes: int = 7,
 
 def describe(G: nx.DiGraph, measured, X, Y) -> str:
     """A readable form of a case for assertion messages."""
-    return (f"edges={sorted(G.edges)}, unmeasured={sorted(set(G) - set(measured))}, "
-            f"X={sorted(X)}, Y={sorted(Y)}")
+    return (
+        f"edges={sorted(G.edges)}, unmeasured={sorted(set(G) - set(measured))}, "
+        f"X={sorted(X)}, Y={sorted(Y)}"
+    )

@@ -18,7 +18,9 @@ def oracle_cn(G: nx.DiGraph, X: set[str], Y: set[str]) -> set[str]:
     return {v for p in simple_paths(G, X, Y) if causal(G, p) for v in p[1:]}
 
 
-def oracle_instrument_sets(G: nx.DiGraph, x: str, Y: set[str], measured, z: str) -> list[frozenset[str]]:
+def oracle_instrument_sets(
+    G: nx.DiGraph, x: str, Y: set[str], measured, z: str
+) -> list[frozenset[str]]:
     """Every W among the measured ancestors of x, Y and z for which z is an
     instrument for x (the definition in linter/causal/instruments.py), found
     by trying every subset."""

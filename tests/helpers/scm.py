@@ -66,7 +66,9 @@ class Observed:
 
     def marginal(self, values: dict[str, int]) -> float:
         if not set(values) <= self.measured:
-            raise AssertionError(f"estimand uses unmeasured variables: {sorted(set(values) - self.measured)}")
+            raise AssertionError(
+                f"estimand uses unmeasured variables: {sorted(set(values) - self.measured)}"
+            )
         key = frozenset(values.items())
         got = self.cache.get(key)
         if got is None:
