@@ -416,6 +416,16 @@ def test_classic_instrument():
     assert instruments(G, {"x"}, {"y"}, measured) == [Instrument("x", "z", frozenset())]
 
 
+def test_an_instrument_does_not_make_the_bow_identified():
+    # z -> x -> y, x <-> y: z is an instrument, yet the effect is not identified
+    # without further assumptions (Pearl 2009, Causality, section 8.2, from
+    # memory: only bounds follow).
+    G, measured = dag("z -> x", "x -> y", bidirected=(("x", "y"),))
+    r = identify_effect(G, {"x"}, {"y"}, measured)
+    assert not r.identified and r.hedge.outer == {"x", "y"}
+    assert [i.variable for i in instruments(G, {"x"}, {"y"}, measured)] == ["z"]
+
+
 def test_conditional_instrument_needs_its_set():
     # z is confounded with y through c; given c it is an instrument.
     G, measured = dag("c -> z", "c -> y", "z -> x", "x -> y", bidirected=(("x", "y"),))
