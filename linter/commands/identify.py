@@ -119,7 +119,8 @@ def render_text(file: str, reports: list[dict], unicode: bool) -> str:
         else:
             h = r["hedge"]
             lines.append("  not identified: no formula in the measured variables gives this "
-                         "effect, whatever the estimation method")  # fmt: skip
+                         "effect under the diagram alone (only added assumptions, such as "
+                         "linear effects, could give one)")  # fmt: skip
             inner = h["without_intervened"]
             lines.append(f"  what prevents it (a hedge): in {_braces(h['variables'])}, linked by "
                          f"unmeasured common causes, the effect of {_braces(h['intervened'])} "
