@@ -4,7 +4,7 @@ Checked against things outside the algorithm: published examples (sources
 beside each), exact interventions in random binary structural models
 (tests/helpers/scm.py), the adjustment and front-door verdicts of
 linter.causal, the latent projection and instrument definitions by brute
-force (tests/helpers/oracles.py), and a criterion of Tian & Pearl (2002).
+force (tests/helpers/identify_oracles.py), and a criterion of Tian & Pearl (2002).
 """
 
 from __future__ import annotations
@@ -17,7 +17,7 @@ import networkx as nx
 import numpy as np
 import pytest
 from helpers.diagrams import describe, random_diagram
-from helpers.oracles import districts, oracle_instrument_sets, oracle_projection
+from helpers.identify_oracles import districts, oracle_instrument_sets, oracle_projection
 from helpers.scm import BinaryModel, Observed, evaluate, interventional
 
 from linter.causal import (

@@ -1,6 +1,7 @@
 """Brute-force oracles for identification questions, written from the definitions.
 
-They build on the path-enumerating oracles of tests/test_causal_oracle.py
+They build on the project's path-enumerating oracles (tests/test_causal_oracle.py,
+or tests/helpers/oracle.py where they are moved)
 (d-separation and the forbidden set straight from their definitions) and are
 only used on small diagrams.
 """
@@ -10,7 +11,11 @@ from __future__ import annotations
 from itertools import combinations
 
 import networkx as nx
-from test_causal_oracle import causal, oracle_d_separated, simple_paths
+
+try:  # where the shared oracles live once they move into tests/helpers/
+    from helpers.oracle import causal, oracle_d_separated, simple_paths
+except ImportError:
+    from test_causal_oracle import causal, oracle_d_separated, simple_paths
 
 
 def oracle_cn(G: nx.DiGraph, X: set[str], Y: set[str]) -> set[str]:
