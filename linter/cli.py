@@ -21,6 +21,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "dagward.commands.independencies",
         "independencies the diagram implies, optionally tested against data",
     ),
+    "identify": (
+        "dagward.commands.identify",
+        "whether each effect is identified at all, by what formula, and the instruments",
+    ),
     "paths": ("dagward.commands.paths", "every path between exposure and outcome, and its status"),
     "diff": ("dagward.commands.diff", "what a change to the diagrams means, between git revisions"),
     "render": ("dagward.commands.render", "draw a diagram (.dot, .mmd, .svg, .png, .pdf, .eps)"),

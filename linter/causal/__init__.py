@@ -1,4 +1,5 @@
-"""Pure causal-graph algorithms: d-separation, witness paths, adjustment sets.
+"""Pure causal-graph algorithms: d-separation, witness paths, adjustment sets,
+identification of effects and instruments.
 
 No I/O and no findings: callers pass a ``networkx.DiGraph`` built by the
 model (hidden ``<->`` parents included) and sets of variable names.
@@ -24,6 +25,8 @@ from .adjustment import (
 from .bounded import OpenPathWitnesses, open_path_witnesses
 from .dsep import d_connecting_path, d_separated, path_is_causal, path_is_open
 from .graph import ancestors, descendants, hidden_node_name, is_hidden
+from .identify import Hedge, Identification, identify_effect, latent_projection
+from .instruments import Instrument, instruments
 from .paths import BlockingNode, OpenedCollider, PathInfo, describe_path, enumerate_paths
 from .separators import (
     front_door_set,
@@ -35,6 +38,9 @@ from .separators import (
 
 __all__ = [
     "BlockingNode",
+    "Hedge",
+    "Identification",
+    "Instrument",
     "OpenedCollider",
     "PathInfo",
     "adjustment_exists",
@@ -52,11 +58,14 @@ __all__ = [
     "forbidden",
     "front_door_set",
     "hidden_node_name",
+    "identify_effect",
     "implied_independencies",
     "instrument_conditions",
     "instrument_like",
+    "instruments",
     "is_hidden",
     "is_valid_adjustment",
+    "latent_projection",
     "mediators",
     "open_path_witnesses",
     "OpenPathWitnesses",
