@@ -317,3 +317,19 @@ def test_fingerprints_from_standard_input_use_the_buffer(tmp_path):
     second = json.loads(buffer.stdout)["runs"][0]["results"]
     assert [r["partialFingerprints"] for r in first] == [r["partialFingerprints"] for r in second]
     assert len(first) == 3
+
+
+def test_rule_help_links_follow_the_project_url_the_action_sets(tmp_path):
+    # the action sets DAGWARD_PROJECT_URL to the repository it runs from
+    from clirunner import dagward
+
+    run = dagward(
+        "check", "samples/wellness.dag", "--format", "sarif",
+        env={"DAGWARD_PROJECT_URL": "https://example.invalid/lab/dagward-fork/"},
+    )  # fmt: skip
+    driver = json.loads(run.out)["runs"][0]["tool"]["driver"]
+    assert driver["informationUri"] == "https://example.invalid/lab/dagward-fork"
+    assert all(
+        r["helpUri"].startswith("https://example.invalid/lab/dagward-fork/blob/main/docs/rules.md#")
+        for r in driver["rules"]
+    )

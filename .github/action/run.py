@@ -103,9 +103,17 @@ def _check() -> int:
     sarif = Path(os.environ.get("RUNNER_TEMP") or tempfile.gettempdir()) / "dagward.sarif"
     if sarif.exists():
         sarif.unlink()
+    # the rule help links of the SARIF log point at the repository the action runs
+    # from (it holds docs/rules.md); GitHub names it in these variables
+    env = dict(os.environ)
+    action_repo = os.environ.get("GITHUB_ACTION_REPOSITORY") or os.environ.get("GITHUB_REPOSITORY")
+    if action_repo and "DAGWARD_PROJECT_URL" not in env:
+        server = os.environ.get("GITHUB_SERVER_URL", "https://github.com")
+        env["DAGWARD_PROJECT_URL"] = f"{server}/{action_repo}"
     subprocess.run(
         ["dagward", "check", *_paths(), *common, "--format", "sarif", "--output", str(sarif)],
         check=False,
+        env=env,
     )
     # the annotations, and the status that decides the job
     status = subprocess.run(

@@ -51,8 +51,10 @@ SARIF_SCHEMA_URI = (
 )
 SRCROOT = "%SRCROOT%"
 # The project's home and where its rule documentation lives (a branch, so the
-# links keep working from release to release).
-PROJECT_URL = "https://github.com/dagward/dagward"
+# links keep working from release to release). The GitHub Action sets
+# DAGWARD_PROJECT_URL to the repository the action runs from, which holds
+# docs/rules.md; elsewhere set it to the clone you install from.
+PROJECT_URL = os.environ.get("DAGWARD_PROJECT_URL", "https://github.com/dagward/dagward").rstrip("/")
 DOCS_BRANCH = "main"
 FINGERPRINT_KEY = "dagwardFinding/v1"
 LEVELS = {"error": "error", "warning": "warning", "info": "note"}
