@@ -59,7 +59,7 @@ PATH_LISTING_MAX_VARIABLES = 60
 PATH_LISTING_LIMIT = 200
 PATHS_SHOWN = 5
 
-ENTRY_KEYS = ("exposure", "outcome", "adjust")
+ENTRY_KEYS = ("exposure", "outcome", "adjust", "effect", "mediator", "restricted")
 STATEMENT_KEYWORDS = ("title", "label", "unmeasured", "period", "analysis")
 
 SEVERITY_TO_LSP = {
@@ -161,7 +161,7 @@ def rename_spans(diagram: Diagram, old: str, new: str) -> list[Span]:
             "and go on with letters, digits, `_` or `.`"
         )
     if new in RESERVED_WORDS:
-        raise RenameRefused(f"`{new}` is a keyword of the diagram language")
+        raise RenameRefused(f"`{new}` is a reserved keyword of the diagram language")
     if new != old and new in diagram.variables:
         raise RenameRefused(f"`{new}` is already a variable of this diagram")
     return list(name_index(diagram).by_name.get(old, ()))
@@ -323,9 +323,12 @@ def completion_words(text: str, line: int, column: int, known: list[str]) -> lis
         if inside:
             return out
     names = dict.fromkeys(known)
-    for raw in lines:  # names typed since the last good parse
+    # names typed since the last good parse; a keyword counts only once it is a
+    # variable of the diagram (keywords are names wherever a name fits)
+    keywords = set(ENTRY_KEYS) | set(STATEMENT_KEYWORDS) | RESERVED_WORDS
+    for raw in lines:
         for word in _WORD.findall(_code_part(raw)):
-            if word not in RESERVED_WORDS:
+            if word not in keywords or word in names:
                 names.setdefault(word)
     typing = re.search(r"[\w.]*$", before_cursor).group(0)  # the word being typed
     out.extend((n, "variable") for n in names if n != typing or n in known)

@@ -301,8 +301,8 @@ async def test_hover_definition_rename_completion_formatting(client: LanguageCli
     assert renamed.count("days_present") == 3
     assert parse_source(renamed, "x.dag")[1] is None
 
-    # refused names: a keyword, an invalid name, an existing variable
-    for bad in ("analysis", "2nd_visit", "income"):
+    # refused names: the one reserved word, an invalid name, an existing variable
+    for bad in ("none", "2nd_visit", "income"):
         with pytest.raises(Exception) as caught:
             await client.text_document_rename_async(
                 types.RenameParams(text_document=doc, position=at, new_name=bad)
@@ -313,7 +313,9 @@ async def test_hover_definition_rename_completion_formatting(client: LanguageCli
     items = await client.text_document_completion_async(
         types.CompletionParams(text_document=doc, position=types.Position(line=ADJUST, character=2))
     )
-    assert {i.label for i in items.items} == {"exposure", "outcome", "adjust"}
+    assert {i.label for i in items.items} == {
+        "exposure", "outcome", "adjust", "effect", "mediator", "restricted"
+    }
     items = await client.text_document_completion_async(
         types.CompletionParams(
             text_document=doc, position=types.Position(line=ADJUST, character=len("  adjust: "))
@@ -450,7 +452,7 @@ def test_rename_spans_cover_every_role_and_skip_comments_and_strings():
     assert kinds == ["arrow", "arrow", "arrow", "arrow", "exposure", "label"]
     assert len(spans) == 6
     with pytest.raises(RenameRefused, match="keyword"):
-        rename_spans(diagram, "breakfast", "outcome")
+        rename_spans(diagram, "breakfast", "none")
     with pytest.raises(RenameRefused, match="not a variable name"):
         rename_spans(diagram, "breakfast", "with space")
 
