@@ -46,7 +46,7 @@ def case_with_unmeasured_adjustment(draw):
     return case, frozenset(case.Z | extra)
 
 
-@settings(max_examples=1500, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=500, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(case_with_unmeasured_adjustment())
 def test_declared_set_valid_iff_no_validity_rule_fires(drawn):
     case, Z = drawn

@@ -27,6 +27,7 @@ from helpers.question_oracles import (
     oracle_single_set,
     stage_holds,
 )
+import pytest
 from hypothesis import HealthCheck, given, note, settings
 from hypothesis import strategies as st
 from helpers.oracle import (
@@ -54,7 +55,7 @@ from dagward.causal.questions import (
     sequential_verdict,
 )
 
-MANY = settings(max_examples=1500, deadline=None, suppress_health_check=list(HealthCheck))
+MANY = settings(max_examples=700, deadline=None, suppress_health_check=list(HealthCheck))
 SOME = settings(max_examples=600, deadline=None, suppress_health_check=list(HealthCheck))
 
 
@@ -263,7 +264,8 @@ def dense_mediation_case(draw):
     return G, measured, X, Y, M, Z
 
 
-@MANY
+@pytest.mark.slow  # runs in .ci/run; the sparse case above runs in the quick suite
+@settings(max_examples=1500, deadline=None, suppress_health_check=list(HealthCheck))
 @given(dense_mediation_case())
 def test_natural_effects_match_oracle_on_dense_diagrams(case):
     test_natural_effects_match_oracle.hypothesis.inner_test(case)
