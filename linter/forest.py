@@ -22,8 +22,10 @@ from collections.abc import Sequence
 from typing import TYPE_CHECKING
 from xml.sax.saxutils import escape, quoteattr
 
+from .wording import claim_text
+
 if TYPE_CHECKING:
-    from dagward.stats import TestResult
+    from .stats import TestResult
 
 ROW_HEIGHT = 22
 LABEL_WIDTH = 300
@@ -44,12 +46,6 @@ COLUMNS = (
     ("Holm p", 250, "end"),
     ("verdict", 260, "start"),
 )
-
-
-def claim_text(a: str, b: str, given: Sequence[str]) -> str:
-    """A claim in words: `a and b`, or `a and b, holding fixed c, d`."""
-    text = f"{a} and {b}"
-    return text + (", holding fixed " + ", ".join(given) if given else "")
 
 
 def _fmt(value: float | None, digits: int = 2) -> str:

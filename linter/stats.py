@@ -49,7 +49,6 @@ __all__ = [
     "Table",
     "TestResult",
     "fisher_z_test",
-    "forest_plot_svg",
     "g_test_conditional",
     "holm",
     "load_table",
@@ -133,7 +132,7 @@ class Independence:
 
     def label(self) -> str:
         """The claim in words: ``a and b, holding fixed c, d`` (as the table and plot say)."""
-        from .forest import claim_text
+        from .wording import claim_text
 
         return claim_text(self.a, self.b, self.given)
 
@@ -1346,9 +1345,3 @@ def simulate_linear_gaussian(
     return values
 
 
-def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
-                    min_effect: float | None = None) -> str:
-    """An SVG forest plot of the results; see :mod:`dagward.forest`."""
-    from dagward.forest import forest_plot_svg as draw
-
-    return draw(results, title, min_effect=min_effect)

@@ -118,6 +118,14 @@ def format_minimal_sets(sets: Iterable[Iterable[str]], truncated: bool = False) 
     return format_sets(sets) + ("; ... (more not shown)" if truncated else "")
 
 
+def claim_text(a: str, b: str, given: Iterable[str]) -> str:
+    """An implied independence as a table and a plot show it: `a and b`, or
+    `a and b, holding fixed c, d` (plain words, no symbol)."""
+    given = list(given)
+    text = f"{a} and {b}"
+    return text + (", holding fixed " + ", ".join(given) if given else "")
+
+
 def independence_text(a: str, b: str, given: Iterable[str]) -> str:
     """`a` and `b` are independent given `c` (plain words, no symbol)."""
     given = sorted(given)

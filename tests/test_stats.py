@@ -9,8 +9,6 @@ from __future__ import annotations
 
 import itertools
 import math
-import os
-import stat
 import subprocess
 import sys
 import xml.etree.ElementTree as ET
@@ -20,7 +18,7 @@ import networkx as nx
 import numpy as np
 import pytest
 from dagward import stats as S
-from dagward.forest import claim_text
+from dagward.forest import forest_plot_svg
 from dagward.stats import (
     DataError,
     Independence,
@@ -28,7 +26,6 @@ from dagward.stats import (
     Table,
     TestResult,
     fisher_z_test,
-    forest_plot_svg,
     g_test_conditional,
     holm,
     load_table,
@@ -38,6 +35,7 @@ from dagward.stats import (
 from dagward.stats import (
     test_independencies as run_tests,  # the library's name starts with test_
 )
+from dagward.wording import claim_text
 from scipy import stats as sps
 
 ROOT = Path(__file__).resolve().parent.parent

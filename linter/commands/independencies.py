@@ -420,7 +420,7 @@ def _stdout_can_write(text: str) -> bool:
 
 def _plot(args, diagram, results, options) -> None:
     from ..fileio import write_atomic
-    from ..stats import forest_plot_svg
+    from ..forest import forest_plot_svg
 
     title = f"Implied independencies of {diagram.title or args.file} tested on {args.data}"
     svg = forest_plot_svg(results, title, min_effect=options.min_effect)
