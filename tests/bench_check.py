@@ -88,8 +88,10 @@ def large_diagram(n_vars: int, n_arrows: int, seed: int = 3) -> str:
     if isolated:
         lines.append("period all: " + ", ".join(isolated))
     g = nx.DiGraph((f"v{a}", f"v{b}") for a, b in seen)
+    g.add_nodes_from(f"v{i}" for i in range(n_vars))
     measured = set(g)
-    for k, (x, y) in enumerate([(1000, 60_000), (20_000, 90_000), (50_000, 99_000)]):
+    roles = [(n_vars * a // 100_000, n_vars * b // 100_000) for a, b in ((1000, 60_000), (20_000, 90_000), (50_000, 99_000))]
+    for k, (x, y) in enumerate(roles):
         if k < 2:
             valid = sorted(smallest_adjustment_set(g, {f"v{x}"}, {f"v{y}"}, measured) or ())
             if k == 1:  # a new root variable that only causes the exposure
