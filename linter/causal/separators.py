@@ -144,6 +144,13 @@ def _separator_search(
     step (one closure of the x side and one search of the y side) that
     produced none, so tests can measure the delay in steps.
     """
+    # A vertex next to an outcome cannot join the x side (the sides would meet),
+    # so branches that would put one there are not even started: with an
+    # outcome of many parents they would be many steps that each fail.
+    near_y = bytearray(len(nbrs))
+    for y in ys:
+        for u in nbrs[y]:
+            near_y[u] = 1
     stack: list[tuple[list[int], tuple[int, ...]]] = [(list(xs), ())]
     while stack:
         seed, forced = stack.pop()
@@ -167,7 +174,8 @@ def _separator_search(
         yield border
         undecided = sorted(set(border).difference(forced))
         for i, v in enumerate(undecided):  # the branches where v joins the x side
-            stack.append((members + [v], forced + tuple(undecided[:i])))
+            if not near_y[v]:
+                stack.append((members + [v], forced + tuple(undecided[:i])))
 
 
 def enumerate_minimal_separators(
