@@ -8,13 +8,14 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
+from itertools import compress
 
 import networkx as nx
 
 from .dsep import b_in, is_collider_on, path_is_causal
 from .dsep import ancestor_mask
 from .graph import _as_set
-from .indexed import indexed
+from .indexed import MaskView, indexed
 
 REASON_NONCOLLIDER = "non-collider in the adjustment set"
 REASON_COLLIDER = "collider not adjusted and no adjusted descendant"
@@ -169,6 +170,12 @@ def _advance(w: _Walker, top: int, start: int, on_path: bytearray, y_mask) -> tu
     return None
 
 
+# Forward searches tried per scan before one backward search settles the rest:
+# a failed forward search is usually a small dead end, a backward one always
+# covers the diagram.
+FORWARD_TRIES = 8
+
+
 def open_paths(
     G: nx.DiGraph,
     X: Iterable[str],
@@ -178,17 +185,25 @@ def open_paths(
 ) -> Iterator[list[str]]:
     """Every simple path from X to Y that is open given Z (d-connecting; Pearl 1988).
 
-    Depth-first in name order, like :func:`simple_paths`, but a path is
-    only extended by a variable w when the step keeps it open (a collider
-    that is in An(Z), or a non-collider outside Z) and an open walk leads
-    from w to an outcome over variables not on the path.  Such a walk can be
-    shortened to an open path over the same variables (the usual argument
-    that d-connecting walks give d-connecting paths, which holds in the
-    graph without the path's variables because An(Z) is taken in the whole
-    diagram; ours), so no branch entered is fruitless.  Each extension test
-    is one linear-time state search (the moves of Shachter's 1998 Bayes
-    ball), at most one per arrow at each variable of the path, so the delay
-    is at most |V| + 2|E| + 1 steps.  ``steps[0]`` counts them.
+    Depth-first in name order, like :func:`simple_paths`, but the path is
+    only extended by a variable u when the step keeps it open (a collider
+    in An(Z), or a non-collider outside Z) and an open walk leads on from u
+    to an outcome over variables not on the path.  Such a walk can be
+    shortened to an open path over the same variables that leaves u the way
+    the walk may (the usual argument that d-connecting walks give
+    d-connecting paths; it holds in the diagram without the path's
+    variables because An(Z) is taken in the whole diagram; ours), so no
+    branch entered is fruitless.  A neighbour is tried with a forward search
+    over (variable, direction) states (the moves of Shachter's 1998 Bayes
+    ball), which usually reaches an outcome at once or fails in a small dead
+    end; after ``FORWARD_TRIES`` failures, one backward search from the
+    outcomes settles the other neighbours of the scan.  (The forward search
+    walls off u itself, the backward one does not; both are exact by the
+    argument above.)  So a scan of a variable costs at most
+    ``FORWARD_TRIES`` + 2 linear-time steps; a variable is scanned when
+    entered and again after each return to it, so between two paths there
+    are at most (``FORWARD_TRIES`` + 2)(2|V| + 1) steps.
+    ``steps[0]`` counts them.
     """
     X, Y, Z = _as_set(G, X), _as_set(G, Y), _as_set(G, Z)
     w = _Walker(G, steps)
@@ -202,6 +217,8 @@ def open_paths(
         on_path = bytearray(x_mask)
         while path:
             v = path[-1]
+            good: tuple[bytearray, bytearray] | None = None
+            failed = 0
             row = w.neighbours(v)
             i = pointer[-1]
             entered = None
@@ -218,15 +235,25 @@ def open_paths(
                 if y_mask[u]:
                     entered = (u, into_u)
                     break
+                # A forward search usually finds an outcome at once; after one
+                # fails, one backward search settles every other neighbour.
                 w.step()
-                on_path[u] = 1
-                if _open_walk_to(ix, u, into_u, on_path, inz, anc, y_mask):
+                if good is None:
+                    on_path[u] = 1
+                    ok = _open_walk_to(ix, u, into_u, on_path, inz, anc, y_mask)
+                    on_path[u] = 0
+                    if not ok:
+                        failed += 1
+                        if failed == FORWARD_TRIES:
+                            w.step()
+                            good = _open_to_outcome(ix, on_path, inz, anc, y_mask)
+                else:
+                    ok = good[0 if into_u else 1][u]
+                if ok:
                     entered = (u, into_u)
                     break
-                on_path[u] = 0
             pointer[-1] = i
             if entered is None:
-                w.step()  # the scan of v's arrows, and the pop
                 path.pop()
                 pointer.pop()
                 down.pop()
@@ -271,6 +298,44 @@ def _open_walk_to(ix, start: int, down: bool, walls: bytearray, inz, anc, y_mask
     return False
 
 
+def _open_to_outcome(ix, walls: bytearray, inz, anc, y_mask) -> tuple[bytearray, bytearray]:
+    """The states (u entered along an arrow into it; u entered from one of its
+    children) from which a walk open given Z reaches an outcome without
+    entering a wall: searched backwards from the outcomes."""
+    succ, pred = ix.succ, ix.pred
+    good_down = bytearray(ix.n)
+    good_up = bytearray(ix.n)
+    stack = []
+    for y in compress(range(ix.n), y_mask):
+        if not walls[y]:
+            good_down[y] = good_up[y] = 1
+            stack.append((y, True))
+            stack.append((y, False))
+    while stack:
+        c, d = stack.pop()
+        if d:  # (c, entered along an arrow) is good: a parent outside Z may step down into c
+            for a in pred[c]:
+                if walls[a] or inz[a]:
+                    continue
+                if not good_down[a]:
+                    good_down[a] = 1
+                    stack.append((a, True))
+                if not good_up[a]:
+                    good_up[a] = 1
+                    stack.append((a, False))
+        else:  # (c, entered from a child) is good: a child a may step up into c
+            for a in succ[c]:
+                if walls[a]:
+                    continue
+                if anc[a] and not good_down[a]:  # a collider, opened by Z
+                    good_down[a] = 1
+                    stack.append((a, True))
+                if not inz[a] and not good_up[a]:
+                    good_up[a] = 1
+                    stack.append((a, False))
+    return good_down, good_up
+
+
 def describe_path(G: nx.DiGraph, path: list[str], X: Iterable[str], Z: Iterable[str]) -> PathInfo:
     """Whether ``path`` is causal and whether it is open given Z, with reasons.
 
@@ -288,10 +353,15 @@ def describe_path(G: nx.DiGraph, path: list[str], X: Iterable[str], Z: Iterable[
             raise ValueError(f"{a!r} and {b!r} are not adjacent")
     blocking: list[BlockingNode] = []
     opened: list[OpenedCollider] = []
+    # Only ancestors of Z have an adjusted descendant, and the directed paths
+    # down to Z run through ancestors of Z only: one pass for An(Z) keeps each
+    # collider's search inside it (a long path has thousands of colliders).
+    ix = indexed(G)
+    above_z = MaskView(ix, ancestor_mask(ix, Z)) if Z else None
     for i in range(1, len(path) - 1):
         v = path[i]
         if is_collider_on(G, path, i):
-            opener = _nearest_adjusted_descendant(G, v, Z)
+            opener = None if above_z is None or v not in above_z else _nearest_adjusted_descendant(G, v, Z, above_z)
             if opener is None:
                 blocking.append(BlockingNode(v, REASON_COLLIDER))
             else:
@@ -308,7 +378,7 @@ def describe_path(G: nx.DiGraph, path: list[str], X: Iterable[str], Z: Iterable[
     )
 
 
-def _nearest_adjusted_descendant(G: nx.DiGraph, v: str, Z: set[str]) -> str | None:
+def _nearest_adjusted_descendant(G: nx.DiGraph, v: str, Z: set[str], above_z) -> str | None:
     if v in Z:
         return v
     if not Z:
@@ -320,7 +390,7 @@ def _nearest_adjusted_descendant(G: nx.DiGraph, v: str, Z: set[str]) -> str | No
         nxt = []
         for u in frontier:
             for c in sorted(succ[u]):
-                if c in seen:
+                if c in seen or c not in above_z:
                     continue
                 if c in Z:
                     return c
