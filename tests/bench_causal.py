@@ -12,6 +12,13 @@ The graphs are frozen, as the model freezes every diagram's graph, so the
 searches reuse one integer index per graph (linter.causal.indexed); building
 that index is timed on its own row, and a first query on a graph not yet
 indexed pays it once.
+
+Then two tables of whole commands run as processes (time and peak memory):
+an outcome with many parents (400, 1,000 and 3,000; target for `adjustment`
+at 3,000: under 2 s and 200 MB), and check / adjustment / paths --limit 100 /
+independencies on generated diagrams of 1,000, 10,000 and 100,000 variables
+(``bench_check.scaling_table``), each with the growth exponent between sizes.
+Run with --no-commands to skip them.
 """
 
 from __future__ import annotations
@@ -211,5 +218,59 @@ def main() -> None:
           per_state["100k"] / per_state["10k"], "", None)
 
 
+def many_parents_diagram(k: int) -> str:
+    """Invented: an outcome with k measured parents; every other parent also
+    causes the exposure (so the smallest valid set holds k/2 of them)."""
+    lines = ["exposure_x -> outcome_y"]
+    for i in range(k):
+        lines.append(f"cause{i} -> outcome_y")
+        if i % 2 == 0:
+            lines.append(f"cause{i} -> exposure_x")
+    lines += ["analysis many {", "  exposure: exposure_x", "  outcome: outcome_y", "}"]
+    return "\n".join(lines) + "\n"
+
+
+def many_parents_table() -> None:
+    import math
+    import tempfile
+    from pathlib import Path
+
+    sys.path.insert(0, os.path.dirname(__file__))
+    from bench_check import run_measured
+
+    sizes = (400, 1_000, 3_000)
+    print(f"{'outcome with k parents':28}" + "".join(f"{f'k = {k:,}':>22}" for k in sizes) + "   growth exponent time/memory")
+    with tempfile.TemporaryDirectory() as tmp:
+        tmpdir = Path(tmp)
+        results = {}
+        for k in sizes:
+            path = tmpdir / f"parents{k}.dag"
+            path.write_text(many_parents_diagram(k))
+            for command in ("check", "adjustment"):
+                results[command, k] = run_measured([sys.executable, "-m", "linter", command, str(path)], tmpdir, 300)[:2]
+    for command in ("check", "adjustment"):
+        cells = []
+        for k in sizes:
+            t, m = results[command, k]
+            cells.append((f"> 300 s" if t is None else f"{t:.2f} s") + f" {m:5.0f} MB")
+        growth = []
+        for a, b in zip(sizes, sizes[1:], strict=False):
+            (ta, ma), (tb, mb) = results[command, a], results[command, b]
+            r = math.log(b / a)
+            growth.append(("-" if ta is None or tb is None else f"{math.log(tb / ta) / r:.2f}") + f"/{math.log(mb / ma) / r:.2f}")
+        print(f"{command:28}" + "".join(c.rjust(22) for c in cells) + "   " + ", ".join(growth))
+    t, m = results["adjustment", 3_000]
+    met = t is not None and t < 2 and m < 200
+    print(f"adjustment at 3,000 parents: target < 2 s and < 200 MB: {'met' if met else 'MISSED'}")
+
+
 if __name__ == "__main__":
     main()
+    if "--no-commands" not in sys.argv:
+        print()
+        many_parents_table()
+        print()
+        sys.path.insert(0, os.path.dirname(__file__))
+        from bench_check import SCALING_COMMANDS, scaling_table
+
+        scaling_table([c for c in SCALING_COMMANDS if c[0] != "fmt --check"])

@@ -105,6 +105,72 @@ def large_diagram(n_vars: int, n_arrows: int, seed: int = 3) -> str:
     return "\n".join(lines) + "\n"
 
 
+def run_measured(args: list[str], cwd: Path, timeout: float) -> tuple[float | None, float, int | None]:
+    """Run a command; return (seconds or None when over ``timeout``, peak resident
+    memory in MB of the process, exit status)."""
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    t = time.perf_counter()
+    proc = subprocess.Popen(args, cwd=cwd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    deadline = t + timeout
+    while True:
+        pid, status, usage = os.wait4(proc.pid, os.WNOHANG)
+        if pid:
+            proc.returncode = os.waitstatus_to_exitcode(status)
+            return time.perf_counter() - t, usage.ru_maxrss / 1024, proc.returncode
+        if time.perf_counter() > deadline:
+            proc.kill()
+            _, _, usage = os.wait4(proc.pid, 0)
+            proc.returncode = -9
+            return None, usage.ru_maxrss / 1024, None
+        time.sleep(0.02)
+
+
+# The commands of the scaling table: (label, arguments after the file).
+SCALING_COMMANDS = [
+    ("check", ["check"]),
+    ("fmt --check", ["fmt", "--check"]),
+    ("adjustment", ["adjustment"]),
+    ("paths --limit 100", ["paths", "--limit", "100"]),
+    ("independencies", ["independencies"]),
+]
+SIZES = (1_000, 10_000, 100_000)
+
+
+def scaling_table(commands=SCALING_COMMANDS, sizes=SIZES, timeout: float = 60.0) -> None:
+    """Time and peak memory of each command on generated diagrams of each size
+    (``large_diagram``: two arrows per variable, three analyses), with the growth
+    exponent between sizes (time ratio as a power of the size ratio: 1 is linear).
+    A command over ``timeout`` is stopped and shown as such."""
+    import math
+
+    results: dict[tuple[str, int], tuple[float | None, float]] = {}
+    with tempfile.TemporaryDirectory() as tmp:
+        tmpdir = Path(tmp)
+        _, base, _ = run_measured([sys.executable, "-m", "linter", "check", "--help"], tmpdir, 60)
+        for n in sizes:
+            path = tmpdir / f"gen{n}.dag"
+            path.write_text(large_diagram(n, 2 * n))
+            for label, extra in commands:
+                seconds, peak, _ = run_measured([sys.executable, "-m", "linter", *extra[:1], str(path), *extra[1:]],
+                                                tmpdir, timeout)  # fmt: skip
+                results[label, n] = (seconds, peak)
+    print(f"{'command':22}" + "".join(f"{f'{n:,} vars':>30}" for n in sizes) + "   growth exponent time/memory")
+    for label, _ in commands:
+        cells, growth = [], []
+        for n in sizes:
+            seconds, peak = results[label, n]
+            shown = f"> {timeout:.0f} s" if seconds is None else f"{seconds:.2f} s"
+            cells.append(f"{shown} {peak:5.0f} MB {max(peak - base, 0) * 1024 / n:5.1f} KB/v".rjust(30))
+        for a, b in zip(sizes, sizes[1:], strict=False):
+            (ta, ma), (tb, mb) = results[label, a], results[label, b]
+            k = math.log(b / a)
+            t_exp = "-" if ta is None or tb is None else f"{math.log(tb / ta) / k:.2f}"
+            growth.append(f"{t_exp}/{math.log(mb / ma) / k:.2f}")
+        print(f"{label:22}" + "".join(cells) + "   " + ", ".join(growth))
+    print(f"(MB: peak resident size of the process; KB/v: above the {base:.0f} MB of start-up, per variable;")
+    print(" growth exponent: log(ratio of times) / log(ratio of sizes) between neighbouring sizes, 1 = linear)")
+
+
 def main() -> None:
     quick = "--quick" in sys.argv
     rows = []
@@ -139,7 +205,12 @@ def main() -> None:
         summary = run.stdout.strip().splitlines()[-1] if run.stdout.strip() else run.stderr[-200:]
         rows.append(("dagward check: 100,000 variables, 200,000 arrows, 3 analyses (2 valid, 1 not)",
                      f"{t_big:.2f} s", summary, "< 10 s", "met" if t_big < 10 else "MISSED"))  # fmt: skip
+        _, peak, _ = run_measured([sys.executable, "-m", "linter", "check", str(path)], tmpdir, 120)
+        rows.append(("  peak memory of that check", f"{peak:.0f} MB", f"{peak * 1024 / 100_000:.1f} KB per variable",
+                     "<= 1 KB/variable", "met" if peak * 1024 / 100_000 <= 1 else "MISSED"))  # fmt: skip
 
+    t_, peak_, _ = run_measured([sys.executable, "-m", "linter", "check", "--help"], ROOT, 60)
+    rows.append(("peak memory of `dagward check --help` (Python, imports)", f"{peak_:.0f} MB", "", "", ""))
     widths = [max(len(str(r[i])) for r in rows) for i in range(5)]
     header = ("measure", "time", "figure", "target", "ratio / verdict")
     widths = [max(w, len(h)) for w, h in zip(widths, header, strict=False)]
@@ -147,6 +218,8 @@ def main() -> None:
     print("  ".join("-" * w for w in widths))
     for r in rows:
         print("  ".join(str(c).ljust(w) for c, w in zip(r, widths, strict=False)))
+    print()
+    scaling_table(SCALING_COMMANDS[:2] if quick else SCALING_COMMANDS)
 
 
 if __name__ == "__main__":
