@@ -346,7 +346,9 @@ def minimal_adjustment_sets(
         yield frozenset(names[original[i]] for i in sep)
 
 
-def _min_vertex_cut(nbrs: Neighbours, vertices: list[int], xs: list[int], ys: list[int], removable) -> list[int] | None:
+def _min_vertex_cut(
+    nbrs: Neighbours, vertices: list[int], xs: list[int], ys: list[int], removable, contracted: bool = False
+) -> list[int] | None:
     """Minimum xs-ys vertex cut with unit cost on removable vertices, infinite elsewhere.
 
     Maximum flow by Dinic's method (Dinic 1970, "Algorithm for solution of a
@@ -362,7 +364,9 @@ def _min_vertex_cut(nbrs: Neighbours, vertices: list[int], xs: list[int], ys: li
     flow (common practice), and the one ``networkx.minimum_cut`` gave before.
     Iterative throughout.
     """
-    if _close_to(nbrs, xs, ys, removable) is None:
+    if set(xs) & set(ys) if contracted else _close_to(nbrs, xs, ys, removable) is None:
+        # (On a contracted graph the groups of non-removable vertices are
+        # maximal, so X and Y cannot be separated only when they share one.)
         return None
     n2 = len(nbrs)
     nodes = list(vertices)
@@ -493,7 +497,7 @@ def smallest_adjustment_set(
     """A valid adjustment set of minimum size: a minimum vertex cut of the moralised
     ancestral proper back-door graph (van der Zander et al. 2019); None if none exists."""
     ix, nbrs, original, xs, ys, removable = _adjustment_problem(G, X, Y, measured)
-    cut = _min_vertex_cut(nbrs, list(range(len(nbrs))), xs, ys, removable)
+    cut = _min_vertex_cut(nbrs, list(range(len(nbrs))), xs, ys, removable, contracted=True)
     return None if cut is None else frozenset(ix.names[original[v]] for v in cut)
 
 
