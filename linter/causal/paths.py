@@ -8,7 +8,8 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
-from itertools import compress
+from array import array
+from itertools import chain, compress
 
 import networkx as nx
 
@@ -69,18 +70,26 @@ def enumerate_paths(
 class _Walker:
     """The graph's index with neighbours in name order (computed for the variables visited)."""
 
-    __slots__ = ("ix", "_sorted", "steps")
+    __slots__ = ("ix", "_sorted", "steps", "_key")
 
-    def __init__(self, G: nx.DiGraph, steps: list[int] | None):
-        self.ix = indexed(G)
+    def __init__(self, G: nx.DiGraph, steps: list[int] | None, near: Iterable[str] | None = None):
+        self.ix = ix = indexed(G)
         self._sorted: dict[int, list[int]] = {}
         self.steps = steps
+        self._key = ix.names.__getitem__
+        if near is not None:
+            # Neighbours closer to the outcomes first (arrows taken both ways),
+            # then by name: a fixed order per variable, so the listing stays
+            # complete and without repeats, and its first paths are short.
+            dist = _distances(ix, ix.ids(near))
+            names = ix.names
+            self._key = lambda v: (dist[v], names[v])
 
     def neighbours(self, v: int) -> list[int]:
         row = self._sorted.get(v)
         if row is None:
             ix = self.ix
-            row = self._sorted[v] = sorted({*ix.succ[v], *ix.pred[v]}, key=ix.names.__getitem__)
+            row = self._sorted[v] = sorted({*ix.succ[v], *ix.pred[v]}, key=self._key)
         return row
 
     def step(self) -> None:
@@ -88,8 +97,32 @@ class _Walker:
             self.steps[0] += 1
 
 
+def _distances(ix, seeds: list[int]) -> array:
+    """Number of arrows (either way) from the nearest seed; n where none leads."""
+    dist = array("i", [ix.n]) * ix.n
+    frontier = []
+    for s in seeds:
+        dist[s] = 0
+        frontier.append(s)
+    d = 0
+    while frontier:
+        d += 1
+        nxt = []
+        for v in frontier:
+            for u in chain(ix.succ[v], ix.pred[v]):
+                if dist[u] > d:
+                    dist[u] = d
+                    nxt.append(u)
+        frontier = nxt
+    return dist
+
+
 def simple_paths(
-    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], steps: list[int] | None = None
+    G: nx.DiGraph,
+    X: Iterable[str],
+    Y: Iterable[str],
+    steps: list[int] | None = None,
+    shortest_first: bool = False,
 ) -> Iterator[list[str]]:
     """Every simple path from X to Y (only its first node in X), with polynomial delay.
 
@@ -106,10 +139,13 @@ def simple_paths(
     linear-time step; a failed search pops one variable, so between two
     paths (and after the last) there are at most |V| + 1 steps.  The order is
     that of the plain depth-first listing.  ``steps[0]``, when given, counts
-    the searches (for tests of the delay).
+    the searches (for tests of the delay).  With ``shortest_first`` the
+    neighbours are tried nearest to an outcome first instead of by name
+    (the first paths are short ones; on a large diagram name order gives
+    paths through thousands of variables).
     """
     X, Y = _as_set(G, X), _as_set(G, Y)
-    w = _Walker(G, steps)
+    w = _Walker(G, steps, Y if shortest_first else None)
     ix = w.ix
     names = ix.names
     x_ids = sorted(ix.ids(X), key=names.__getitem__)
@@ -182,6 +218,7 @@ def open_paths(
     Y: Iterable[str],
     Z: Iterable[str],
     steps: list[int] | None = None,
+    shortest_first: bool = False,
 ) -> Iterator[list[str]]:
     """Every simple path from X to Y that is open given Z (d-connecting; Pearl 1988).
 
@@ -202,11 +239,12 @@ def open_paths(
     argument above.)  So a scan of a variable costs at most
     ``FORWARD_TRIES`` + 2 linear-time steps; a variable is scanned when
     entered and again after each return to it, so between two paths there
-    are at most (``FORWARD_TRIES`` + 2)(2|V| + 1) steps.
+    are at most (``FORWARD_TRIES`` + 2)(2|V| + 1) steps.  ``shortest_first``
+    as for :func:`simple_paths`.
     ``steps[0]`` counts them.
     """
     X, Y, Z = _as_set(G, X), _as_set(G, Y), _as_set(G, Z)
-    w = _Walker(G, steps)
+    w = _Walker(G, steps, Y if shortest_first else None)
     ix = w.ix
     names = ix.names
     succ_of = ix.succ

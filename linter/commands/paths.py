@@ -42,14 +42,14 @@ def describe(diagram, analysis, given: set[str] | None, limit: int, open_only: b
     # then, unless only open ones are asked for, the others in listing order.
     paths: list[list[str]] = []
     cut = False
-    for p in open_paths(g, xs, ys, adjust):
+    for p in open_paths(g, xs, ys, adjust, shortest_first=True):
         if len(paths) >= limit:
             cut = True
             break
         paths.append(p)
     if not open_only and not cut:
         listed = {tuple(p) for p in paths}
-        for p in simple_paths(g, xs, ys):
+        for p in simple_paths(g, xs, ys, shortest_first=True):
             if tuple(p) in listed:
                 continue
             if len(paths) >= limit:
