@@ -376,27 +376,29 @@ def _min_vertex_cut(
     m = len(nodes)
     source, sink = 2 * m, 2 * m + 1
     big = m + 1  # more than any flow (at most one unit per removable vertex)
-    head = array("i")
-    cap = array("i")
-    tail = array("i")
-
-    def arc(a: int, b: int, c: int) -> None:  # arc a -> b and its reverse, at ids k and k ^ 1
-        head.append(b)
-        tail.append(a)
-        cap.append(c)
-        head.append(a)
-        tail.append(b)
-        cap.append(0)
-
+    # Arc k and its reverse k ^ 1 (capacity 0) are built together.
+    head: list[int] = []
+    tail: list[int] = []
+    cap: list[int] = []
     for i, u in enumerate(nodes):
-        arc(2 * i, 2 * i + 1, 1 if removable[u] else big)
-        out = 2 * i + 1
+        into, out = 2 * i, 2 * i + 1
+        head += (out, into)
+        tail += (into, out)
+        cap += (1 if removable[u] else big, 0)
         for w in nbrs[u]:
-            arc(out, 2 * local[w], big)
+            other = 2 * local[w]
+            head += (other, out)
+            tail += (out, other)
+            cap += (big, 0)
     for x in xs:
-        arc(source, 2 * local[x], big)
+        head += (2 * local[x], source)
+        tail += (source, 2 * local[x])
+        cap += (big, 0)
     for y in ys:
-        arc(2 * local[y] + 1, sink, big)
+        head += (sink, 2 * local[y] + 1)
+        tail += (2 * local[y] + 1, sink)
+        cap += (big, 0)
+    head, tail, cap = array("i", head), array("i", tail), array("i", cap)
     # Arcs grouped by tail (counting sort): node v's arcs are order[start[v]:start[v + 1]].
     n_flow = 2 * m + 2
     start = array("i", [0]) * (n_flow + 1)
