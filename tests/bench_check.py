@@ -90,7 +90,10 @@ def large_diagram(n_vars: int, n_arrows: int, seed: int = 3) -> str:
     g = nx.DiGraph((f"v{a}", f"v{b}") for a, b in seen)
     g.add_nodes_from(f"v{i}" for i in range(n_vars))
     measured = set(g)
-    roles = [(n_vars * a // 100_000, n_vars * b // 100_000) for a, b in ((1000, 60_000), (20_000, 90_000), (50_000, 99_000))]
+    roles = [
+        (n_vars * a // 100_000, n_vars * b // 100_000)
+        for a, b in ((1000, 60_000), (20_000, 90_000), (50_000, 99_000))
+    ]
     for k, (x, y) in enumerate(roles):
         if k < 2:
             valid = sorted(smallest_adjustment_set(g, {f"v{x}"}, {f"v{y}"}, measured) or ())
@@ -105,12 +108,16 @@ def large_diagram(n_vars: int, n_arrows: int, seed: int = 3) -> str:
     return "\n".join(lines) + "\n"
 
 
-def run_measured(args: list[str], cwd: Path, timeout: float) -> tuple[float | None, float, int | None]:
+def run_measured(
+    args: list[str], cwd: Path, timeout: float
+) -> tuple[float | None, float, int | None]:
     """Run a command; return (seconds or None when over ``timeout``, peak resident
     memory in MB of the process, exit status)."""
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
     t = time.perf_counter()
-    proc = subprocess.Popen(args, cwd=cwd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    proc = subprocess.Popen(
+        args, cwd=cwd, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL
+    )
     deadline = t + timeout
     while True:
         pid, status, usage = os.wait4(proc.pid, os.WNOHANG)
@@ -154,21 +161,31 @@ def scaling_table(commands=SCALING_COMMANDS, sizes=SIZES, timeout: float = 60.0)
                 seconds, peak, _ = run_measured([sys.executable, "-m", "linter", *extra[:1], str(path), *extra[1:]],
                                                 tmpdir, timeout)  # fmt: skip
                 results[label, n] = (seconds, peak)
-    print(f"{'command':22}" + "".join(f"{f'{n:,} vars':>30}" for n in sizes) + "   growth exponent time/memory")
+    print(
+        f"{'command':22}"
+        + "".join(f"{f'{n:,} vars':>30}" for n in sizes)
+        + "   growth exponent time/memory"
+    )
     for label, _ in commands:
         cells, growth = [], []
         for n in sizes:
             seconds, peak = results[label, n]
             shown = f"> {timeout:.0f} s" if seconds is None else f"{seconds:.2f} s"
-            cells.append(f"{shown} {peak:5.0f} MB {max(peak - base, 0) * 1024 / n:5.1f} KB/v".rjust(30))
+            cells.append(
+                f"{shown} {peak:5.0f} MB {max(peak - base, 0) * 1024 / n:5.1f} KB/v".rjust(30)
+            )
         for a, b in zip(sizes, sizes[1:], strict=False):
             (ta, ma), (tb, mb) = results[label, a], results[label, b]
             k = math.log(b / a)
             t_exp = "-" if ta is None or tb is None else f"{math.log(tb / ta) / k:.2f}"
             growth.append(f"{t_exp}/{math.log(mb / ma) / k:.2f}")
         print(f"{label:22}" + "".join(cells) + "   " + ", ".join(growth))
-    print(f"(MB: peak resident size of the process; KB/v: above the {base:.0f} MB of start-up, per variable;")
-    print(" growth exponent: log(ratio of times) / log(ratio of sizes) between neighbouring sizes, 1 = linear)")
+    print(
+        f"(MB: peak resident size of the process; KB/v: above the {base:.0f} MB of start-up, per variable;"
+    )
+    print(
+        " growth exponent: log(ratio of times) / log(ratio of sizes) between neighbouring sizes, 1 = linear)"
+    )
 
 
 def main() -> None:
@@ -210,7 +227,9 @@ def main() -> None:
                      "<= 1 KB/variable", "met" if peak * 1024 / 100_000 <= 1 else "MISSED"))  # fmt: skip
 
     t_, peak_, _ = run_measured([sys.executable, "-m", "linter", "check", "--help"], ROOT, 60)
-    rows.append(("peak memory of `dagward check --help` (Python, imports)", f"{peak_:.0f} MB", "", "", ""))
+    rows.append(
+        ("peak memory of `dagward check --help` (Python, imports)", f"{peak_:.0f} MB", "", "", "")
+    )
     widths = [max(len(str(r[i])) for r in rows) for i in range(5)]
     header = ("measure", "time", "figure", "target", "ratio / verdict")
     widths = [max(w, len(h)) for w, h in zip(widths, header, strict=False)]

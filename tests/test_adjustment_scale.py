@@ -14,14 +14,19 @@ import random
 
 import networkx as nx
 
-from linter.causal import forbidden, is_valid_adjustment, minimal_adjustment_sets, smallest_adjustment_set
+from linter.causal import (
+    forbidden,
+    is_valid_adjustment,
+    minimal_adjustment_sets,
+    smallest_adjustment_set,
+)
 from linter.causal.adjustment import proper_backdoor_graph
 from linter.causal.indexed import indexed
 from linter.causal.separators import _moral_ids
 
 
 def clique_flow_size(G, x, y, measured):
-    """Size of a minimum valid adjustment set by networkx max-flow on the moral graph with cliques."""
+    """Size of a minimum valid adjustment set: networkx max-flow on the moral graph with cliques."""
     H = proper_backdoor_graph(G, {x}, {y})
     anc = nx.ancestors(H, x) | nx.ancestors(H, y) | {x, y}
     M = nx.moral_graph(H.subgraph(anc))
@@ -48,7 +53,9 @@ def random_dag(rng, n):
     p = rng.uniform(0.05, 0.3)
     G = nx.DiGraph()
     G.add_nodes_from(order)
-    G.add_edges_from((a, b) for i, a in enumerate(order) for b in order[i + 1 :] if rng.random() < p)
+    G.add_edges_from(
+        (a, b) for i, a in enumerate(order) for b in order[i + 1 :] if rng.random() < p
+    )
     return nx.freeze(G)
 
 

@@ -25,12 +25,14 @@ def dense_dag(n: int, p: float, seed: int) -> nx.DiGraph:
     rng = random.Random(seed)
     G = nx.DiGraph()
     G.add_nodes_from(f"v{i}" for i in range(n))
-    G.add_edges_from((f"v{i}", f"v{j}") for i in range(n) for j in range(i + 1, n) if rng.random() < p)
+    G.add_edges_from(
+        (f"v{i}", f"v{j}") for i in range(n) for j in range(i + 1, n) if rng.random() < p
+    )
     return nx.freeze(G)
 
 
 def all_paths_oracle(G, X, Y):
-    """Every simple path from an x to a y with no other exposure on it (networkx, by brute force)."""
+    """Every simple path from an x to a y with no other exposure on it (networkx, brute force)."""
     U = G.to_undirected(as_view=True)
     out = set()
     for x in X:
@@ -48,7 +50,9 @@ def random_case(rng):
     order = list(G)
     rng.shuffle(order)
     p = rng.uniform(0.2, 0.6)
-    G.add_edges_from((a, b) for i, a in enumerate(order) for b in order[i + 1:] if rng.random() < p)
+    G.add_edges_from(
+        (a, b) for i, a in enumerate(order) for b in order[i + 1 :] if rng.random() < p
+    )
     nodes = list(G)
     rng.shuffle(nodes)
     kx, ky = rng.choice([1, 1, 2]), rng.choice([1, 2])
@@ -73,10 +77,13 @@ def test_limit_5_on_a_dense_60_variable_diagram_stays_within_the_delay_bound(see
     """Each next path costs at most |V| + 1 searches (simple_paths) and at most
     (FORWARD_TRIES + 2)(2|V| + 1) (open_paths): the bounds argued in their docstrings."""
     G = dense_dag(60, 0.3, seed)
-    n, m = G.number_of_nodes(), G.number_of_edges()
+    n = G.number_of_nodes()
     for listing, bound in (
         (lambda steps: simple_paths(G, {"v0"}, {"v59"}, steps), n + 1),
-        (lambda steps: open_paths(G, {"v0"}, {"v59"}, {"v1", "v2", "v30"}, steps), (FORWARD_TRIES + 2) * (2 * n + 1)),
+        (
+            lambda steps: open_paths(G, {"v0"}, {"v59"}, {"v1", "v2", "v30"}, steps),
+            (FORWARD_TRIES + 2) * (2 * n + 1),
+        ),
     ):
         steps = [0]
         it = listing(steps)
@@ -103,7 +110,9 @@ def test_no_path_is_proved_within_the_bound():
 def _dense_file(tmp_path):
     rng = random.Random(5)
     names = [f"v{i}" for i in range(60)]
-    lines = [f"{a} -> {b}" for i, a in enumerate(names) for b in names[i + 1:] if rng.random() < 0.3]
+    lines = [
+        f"{a} -> {b}" for i, a in enumerate(names) for b in names[i + 1 :] if rng.random() < 0.3
+    ]
     lines += ["analysis {", "  exposure: v0", "  outcome: v59", "  adjust: v1, v2", "}"]
     p = tmp_path / "dense.dag"
     p.write_text("\n".join(lines) + "\n")
@@ -118,13 +127,19 @@ def test_paths_lists_open_ones_first_and_open_lists_only_them(tmp_path):
     assert opens == sorted(opens, reverse=True) and opens[0]  # open ones first
     doc = json.loads(dagward("paths", str(p), "--limit", "7", "--open", "--format", "json").out)
     report = doc["analyses"][0]
-    assert len(report["paths"]) == 7 and all(r["open"] for r in report["paths"]) and report["truncated"]
+    assert (
+        len(report["paths"]) == 7
+        and all(r["open"] for r in report["paths"])
+        and report["truncated"]
+    )
     run = dagward("paths", str(p), "--limit", "7", "--open")
     assert "stopped after 7 open paths (--limit); more exist" in run.out
 
 
 def test_paths_open_on_the_sample_lists_the_open_paths_only():
-    run = dagward("paths", "samples/wellness.dag", "--analysis", "total_effect", "--open", "--format", "json")
+    run = dagward(
+        "paths", "samples/wellness.dag", "--analysis", "total_effect", "--open", "--format", "json"
+    )
     rows = json.loads(run.out)["analyses"][0]["paths"]
     assert [r["text"] for r in rows] == [
         "enrolled -> fitness_12m -> sick_days",

@@ -6,15 +6,14 @@ Path enumeration is exponential in the worst case, so nothing used by
 
 from __future__ import annotations
 
+from array import array
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
-from array import array
 from itertools import chain, compress
 
 import networkx as nx
 
-from .dsep import b_in, is_collider_on, path_is_causal
-from .dsep import ancestor_mask
+from .dsep import ancestor_mask, b_in, is_collider_on, path_is_causal
 from .graph import _as_set
 from .indexed import MaskView, indexed
 
@@ -175,7 +174,9 @@ def simple_paths(
             yield [names[u] for u in path]
 
 
-def _advance(w: _Walker, top: int, start: int, on_path: bytearray, y_mask) -> tuple[list[int], list[int]] | None:
+def _advance(
+    w: _Walker, top: int, start: int, on_path: bytearray, y_mask
+) -> tuple[list[int], list[int]] | None:
     """Depth-first search from ``top`` (its neighbours from position ``start``)
     over variables not on the path, to the first outcome.
 
@@ -399,7 +400,9 @@ def describe_path(G: nx.DiGraph, path: list[str], X: Iterable[str], Z: Iterable[
     for i in range(1, len(path) - 1):
         v = path[i]
         if is_collider_on(G, path, i):
-            opener = None if above_z is None or v not in above_z else _nearest_adjusted_descendant(G, v, Z, above_z)
+            opener = None
+            if above_z is not None and v in above_z:
+                opener = _nearest_adjusted_descendant(G, v, Z, above_z)
             if opener is None:
                 blocking.append(BlockingNode(v, REASON_COLLIDER))
             else:

@@ -347,7 +347,12 @@ def minimal_adjustment_sets(
 
 
 def _min_vertex_cut(
-    nbrs: Neighbours, vertices: list[int], xs: list[int], ys: list[int], removable, contracted: bool = False
+    nbrs: Neighbours,
+    vertices: list[int],
+    xs: list[int],
+    ys: list[int],
+    removable,
+    contracted: bool = False,
 ) -> list[int] | None:
     """Minimum xs-ys vertex cut with unit cost on removable vertices, infinite elsewhere.
 
@@ -428,7 +433,9 @@ def _min_vertex_cut(
             if not reaches[v] and cap[k ^ 1] > 0:  # arc v -> w has capacity left
                 reaches[v] = 1
                 stack.append(v)
-    return [u for i, u in enumerate(nodes) if removable[u] and reaches[2 * i + 1] and not reaches[2 * i]]
+    return [
+        u for i, u in enumerate(nodes) if removable[u] and reaches[2 * i + 1] and not reaches[2 * i]
+    ]
 
 
 def _levels(source: int, start, order, head, cap, n_flow: int) -> array:

@@ -30,7 +30,9 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    help="list only the paths that are open given the adjustment set")  # fmt: skip
 
 
-def describe(diagram, analysis, given: set[str] | None, limit: int, open_only: bool = False) -> dict:
+def describe(
+    diagram, analysis, given: set[str] | None, limit: int, open_only: bool = False
+) -> dict:
     from ..causal import describe_path, is_hidden
     from ..causal.paths import open_paths, simple_paths
     from ..rules.facts import spell_path
@@ -125,7 +127,8 @@ def run(args: argparse.Namespace) -> int:
         given = {n.strip() for n in args.given.split(",") if n.strip()}
         unknown = sorted(given - set(result.diagram.variables))
         if unknown:
-            raise UsageProblem(f"--given names unknown variables: {_with_suggestions(unknown, result.diagram.variables)}")
+            names = _with_suggestions(unknown, result.diagram.variables)
+            raise UsageProblem(f"--given names unknown variables: {names}")
     reports = []
     for a in analyses:
         clash = (given or set()) & (a.exposure_set | a.outcome_set)
