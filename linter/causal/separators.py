@@ -236,9 +236,9 @@ def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
     on the contracted graph.
 
     Returns (index, neighbours, original vertex of each contracted vertex,
-    xs, ys, removable marks).  Built once per graph, X, Y and measured set
-    (the index's cache keeps the last few), since ``adjustment`` asks for
-    both the minimal sets and the smallest one.
+    xs, ys, removable marks).  The last one built is kept in the graph's
+    cache, since ``adjustment`` asks for both the minimal sets and the
+    smallest one of the same analysis.
     """
     X, Y = _roles(G, X, Y)
     ix = indexed(G)
@@ -261,8 +261,7 @@ def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
     problem = (ix, *_contracted(nbrs, vertices, removable, ix.ids(X), ix.ids(Y)))
     if cache is not None:
         kept_problems = cache["adjustment_problem"]
-        if len(kept_problems) > 8:
-            kept_problems.clear()
+        kept_problems.clear()  # one at a time: a large diagram's is large
         kept_problems[key] = (measured, problem)
     return problem
 
