@@ -87,8 +87,13 @@ def large_diagram(n_vars: int, n_arrows: int, seed: int = 3) -> str:
     if isolated:
         lines.append("period all: " + ", ".join(isolated))
     g = nx.DiGraph((f"v{a}", f"v{b}") for a, b in seen)
+    g.add_nodes_from(f"v{i}" for i in range(n_vars))
     measured = set(g)
-    for k, (x, y) in enumerate([(1000, 60_000), (20_000, 90_000), (50_000, 99_000)]):
+    roles = [
+        (n_vars * a // 100_000, n_vars * b // 100_000)
+        for a, b in ((1000, 60_000), (20_000, 90_000), (50_000, 99_000))
+    ]
+    for k, (x, y) in enumerate(roles):
         if k < 2:
             valid = sorted(smallest_adjustment_set(g, {f"v{x}"}, {f"v{y}"}, measured) or ())
             if k == 1:  # a new root variable that only causes the exposure
@@ -100,6 +105,94 @@ def large_diagram(n_vars: int, n_arrows: int, seed: int = 3) -> str:
         lines += [f"analysis a{k} {{", f"  exposure: v{x}", f"  outcome: v{y}",
                   f"  adjust: {adjust}", "}"]  # fmt: skip
     return "\n".join(lines) + "\n"
+
+
+# Runs a command and prints its peak resident memory (KB) on stderr's last line.
+# The benchmark holds large diagrams in memory; a child forked straight from it
+# would count those pages as its own, so a small process starts each command.
+_WRAP = (
+    "import resource, subprocess, sys\n"
+    "code = subprocess.run(sys.argv[1:], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL).returncode\n"
+    "print(code, resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss, file=sys.stderr)\n"
+)
+
+
+def run_measured(
+    args: list[str], cwd: Path, timeout: float
+) -> tuple[float | None, float, int | None]:
+    """Run a command; return (seconds or None when over ``timeout``, peak resident
+    memory in MB of the command's process, exit status)."""
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    t = time.perf_counter()
+    try:
+        run = subprocess.run([sys.executable, "-c", _WRAP, *args], cwd=cwd, env=env,
+                             capture_output=True, text=True, timeout=timeout)  # fmt: skip
+    except subprocess.TimeoutExpired:
+        return None, float("nan"), None
+    seconds = time.perf_counter() - t
+    code, peak_kb = run.stderr.split()[-2:]
+    return seconds, int(peak_kb) / 1024, int(code)
+
+
+# The commands of the scaling table: (label, arguments after the file).
+SCALING_COMMANDS = [
+    ("check", ["check"]),
+    ("fmt --check", ["fmt", "--check"]),
+    ("adjustment", ["adjustment"]),
+    ("paths --limit 100", ["paths", "--limit", "100"]),
+    ("independencies", ["independencies"]),
+]
+SIZES = (1_000, 10_000, 100_000)
+
+
+def scaling_table(commands=SCALING_COMMANDS, sizes=SIZES, timeout: float = 60.0) -> None:
+    """Time and peak memory of each command on generated diagrams of each size
+    (``large_diagram``: two arrows per variable, three analyses), with the growth
+    exponent between sizes (time ratio as a power of the size ratio: 1 is linear).
+    A command over ``timeout`` is stopped and shown as such."""
+    import math
+
+    results: dict[tuple[str, int], tuple[float | None, float]] = {}
+    with tempfile.TemporaryDirectory() as tmp:
+        tmpdir = Path(tmp)
+        _, base, _ = run_measured([sys.executable, "-m", "dagward", "check", "--help"], tmpdir, 60)
+        for n in sizes:
+            path = tmpdir / f"gen{n}.dag"
+            path.write_text(large_diagram(n, 2 * n))
+            for label, extra in commands:
+                seconds, peak, _ = run_measured([sys.executable, "-m", "dagward", *extra[:1], str(path), *extra[1:]],
+                                                tmpdir, timeout)  # fmt: skip
+                results[label, n] = (seconds, peak)
+    print(
+        f"{'command':22}"
+        + "".join(f"{f'{n:,} vars':>30}" for n in sizes)
+        + "   growth exponent time/memory"
+    )
+    for label, _ in commands:
+        cells, growth = [], []
+        for n in sizes:
+            seconds, peak = results[label, n]
+            shown = f"> {timeout:.0f} s" if seconds is None else f"{seconds:.2f} s"
+            if seconds is None:
+                cells.append(shown.rjust(30))
+                continue
+            cells.append(
+                f"{shown} {peak:5.0f} MB {max(peak - base, 0) * 1024 / n:5.1f} KB/v".rjust(30)
+            )
+        for a, b in zip(sizes, sizes[1:], strict=False):
+            (ta, ma), (tb, mb) = results[label, a], results[label, b]
+            k = math.log(b / a)
+            if ta is None or tb is None:
+                growth.append("-")
+                continue
+            growth.append(f"{math.log(tb / ta) / k:.2f}/{math.log(mb / ma) / k:.2f}")
+        print(f"{label:22}" + "".join(cells) + "   " + ", ".join(growth))
+    print(
+        f"(MB: peak resident size of the process; KB/v: above the {base:.0f} MB of start-up, per variable;"
+    )
+    print(
+        " growth exponent: log(ratio of times) / log(ratio of sizes) between neighbouring sizes, 1 = linear)"
+    )
 
 
 def main() -> None:
@@ -137,7 +230,14 @@ def main() -> None:
         summary = kept[-1] if kept else run.stderr[-200:]
         rows.append(("dagward check: 100,000 variables, 200,000 arrows, 3 analyses (2 valid, 1 not)",
                      f"{t_big:.2f} s", summary, "< 10 s", "met" if t_big < 10 else "MISSED"))  # fmt: skip
+        _, peak, _ = run_measured([sys.executable, "-m", "dagward", "check", str(path)], tmpdir, 120)
+        rows.append(("  peak memory of that check", f"{peak:.0f} MB", f"{peak * 1024 / 100_000:.1f} KB per variable",
+                     "<= 1 KB/variable", "met" if peak * 1024 / 100_000 <= 1 else "MISSED"))  # fmt: skip
 
+    t_, peak_, _ = run_measured([sys.executable, "-m", "dagward", "check", "--help"], ROOT, 60)
+    rows.append(
+        ("peak memory of `dagward check --help` (Python, imports)", f"{peak_:.0f} MB", "", "", "")
+    )
     widths = [max(len(str(r[i])) for r in rows) for i in range(5)]
     header = ("measure", "time", "figure", "target", "ratio / verdict")
     widths = [max(w, len(h)) for w, h in zip(widths, header, strict=False)]
@@ -145,6 +245,8 @@ def main() -> None:
     print("  ".join("-" * w for w in widths))
     for r in rows:
         print("  ".join(str(c).ljust(w) for c, w in zip(r, widths, strict=False)))
+    print()
+    scaling_table(SCALING_COMMANDS[:2] if quick else SCALING_COMMANDS)
 
 
 if __name__ == "__main__":

@@ -171,9 +171,9 @@ def assert_polynomial_delay(nbrs, xs, ys, removable):
 @given(analysis_case(max_nodes=12))
 def test_minimal_set_listing_has_polynomial_delay(case):
     G, X, Y, measured = case.G, set(case.X), set(case.Y), set(case.measured)
-    ix, nbrs, _, xs, ys, removable = _adjustment_problem(G, X, Y, measured)
+    ix, nbrs, original, xs, ys, removable = _adjustment_problem(G, X, Y, measured)
     found = assert_polynomial_delay(nbrs, xs, ys, removable)
-    named = {frozenset(ix.names[i] for i in s) for s in found}
+    named = {frozenset(ix.names[original[i]] for i in s) for s in found}
     assert named == set(minimal_adjustment_sets(G, X, Y, measured))
 
 

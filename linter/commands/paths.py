@@ -2,6 +2,9 @@
 
 For review discussions ("why is this set not enough?"). Paths are listed, so
 their number can be exponential: the listing stops at `--limit` and says so.
+Open paths come first (they are what a reviewer asks about); each next path
+costs at most a bounded number of linear passes over the diagram
+(dagward.causal.paths), so `--limit` bounds the time as well as the output.
 """
 
 from __future__ import annotations
@@ -23,18 +26,43 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--given", metavar="A,B", help="adjustment set to use instead of `adjust:`")
     p.add_argument("--limit", type=int, default=100, metavar="N",
                    help="list at most N paths per analysis (default 100)")  # fmt: skip
+    p.add_argument("--open", action="store_true",
+                   help="list only the paths that are open given the adjustment set")  # fmt: skip
 
 
-def describe(diagram, analysis, given: set[str] | None, limit: int) -> dict:
-    from ..causal import describe_path, enumerate_paths, is_hidden
+def describe(
+    diagram, analysis, given: set[str] | None, limit: int, open_only: bool = False
+) -> dict:
+    from ..causal import describe_path, is_hidden
+    from ..causal.paths import open_paths, simple_paths
     from ..wording import spell_path
 
     g = diagram.graph
+    xs, ys = analysis.exposure_set, analysis.outcome_set
     adjust = given if given is not None else set(analysis.adjust_set or ())
-    paths, cut = enumerate_paths(g, analysis.exposure_set, analysis.outcome_set, limit)
+    # Open paths first, found by a search that only walks open continuations;
+    # then, unless only open ones are asked for, the others in listing order.
+    paths: list[list[str]] = []
+    cut = False
+    for p in open_paths(g, xs, ys, adjust, shortest_first=True):
+        if len(paths) >= limit:
+            cut = True
+            break
+        paths.append(p)
+    if not open_only and not cut:
+        listed = {tuple(p) for p in paths}
+        for p in simple_paths(g, xs, ys, shortest_first=True):
+            if tuple(p) in listed:
+                continue
+            if len(paths) >= limit:
+                # Fewer open paths than the limit were all listed, so any
+                # path not yet listed is a blocked one: the listing is cut.
+                cut = True
+                break
+            paths.append(p)
     rows = []
     for p in paths:
-        info = describe_path(g, p, analysis.exposure_set, adjust)
+        info = describe_path(g, p, xs, adjust)
         rows.append({
             "path": ["<->" if is_hidden(g, n) else n for n in p],
             "text": spell_path(g, p),
@@ -45,13 +73,14 @@ def describe(diagram, analysis, given: set[str] | None, limit: int) -> dict:
             "opened_colliders": [{"collider": o.collider, "by": o.adjusted}
                                  for o in info.opened_colliders],
         })  # fmt: skip
-    # causal paths first, then open non-causal ones (the problems), then the rest
-    rows.sort(key=lambda r: (not r["causal"], r["causal"] or not r["open"]))
+    # open paths first (causal ones, then the biasing ones), then the blocked ones
+    rows.sort(key=lambda r: (not r["open"], not r["causal"]))
     return {
         "name": analysis.name,
         "adjust": sorted(adjust),
         "paths": rows,
         "truncated": cut,
+        "open_only": open_only,
     }
 
 
@@ -78,10 +107,11 @@ def render_text(file: str, reports: list[dict], limit: int) -> str:
         adjust = "{" + ", ".join(r["adjust"]) + "}"
         lines.append(f"{file}: analysis {r['name']}, adjusting for {adjust}:")
         lines.extend(_line(row) for row in r["paths"])
+        what = "open path" if r.get("open_only") else "path"
         if not r["paths"]:
-            lines.append("  no path joins the exposure and the outcome")
+            lines.append(f"  no {what} joins the exposure and the outcome")
         if r["truncated"]:
-            lines.append(f"  ... stopped after {limit} paths (--limit); more exist")
+            lines.append(f"  ... stopped after {limit} {what}s (--limit); more exist")
     return "\n".join(lines) + "\n"
 
 
@@ -97,12 +127,25 @@ def run(args: argparse.Namespace) -> int:
         given = {n.strip() for n in args.given.split(",") if n.strip()}
         unknown = sorted(given - set(result.diagram.variables))
         if unknown:
-            raise UsageProblem(f"--given names unknown variables: {', '.join(unknown)}")
+            names = _with_suggestions(unknown, result.diagram.variables)
+            raise UsageProblem(f"--given names unknown variables: {names}")
     reports = []
     for a in analyses:
         clash = (given or set()) & (a.exposure_set | a.outcome_set)
         if clash:
             raise UsageProblem(f"--given includes an exposure or outcome: {', '.join(sorted(clash))}")
-        reports.append(describe(result.diagram, a, given, args.limit))
+        reports.append(describe(result.diagram, a, given, args.limit, args.open))
     emit_analyses(args, reports, render_text(args.file, reports, args.limit))
     return 0
+
+
+def _with_suggestions(unknown: list[str], known) -> str:
+    """The unknown names, each with the closest known name when one is close."""
+    import difflib
+
+    known = sorted(known)
+    parts = []
+    for name in unknown:
+        close = difflib.get_close_matches(name, known, n=1)
+        parts.append(f"{name} (did you mean {close[0]}?)" if close else name)
+    return ", ".join(parts)

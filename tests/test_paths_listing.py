@@ -1,0 +1,155 @@
+"""Path listing with polynomial delay (dagward.causal.paths) and the `paths` options
+built on it.
+
+Oracles: networkx.all_simple_paths (every simple path) and the definitional
+open/blocked test of test_causal_oracle (d-separation read off each path,
+Pearl 1988). The delay is measured in the listing's own linear-time steps,
+as the minimal-set listing's is in test_causal_properties; nothing is timed.
+"""
+
+from __future__ import annotations
+
+import json
+import random
+
+import networkx as nx
+import pytest
+from clirunner import dagward
+from test_causal_oracle import blocked
+
+from dagward.causal.paths import FORWARD_TRIES, enumerate_paths, open_paths, simple_paths
+
+
+def dense_dag(n: int, p: float, seed: int) -> nx.DiGraph:
+    """Invented: arrows from each variable to later ones with probability p."""
+    rng = random.Random(seed)
+    G = nx.DiGraph()
+    G.add_nodes_from(f"v{i}" for i in range(n))
+    G.add_edges_from(
+        (f"v{i}", f"v{j}") for i in range(n) for j in range(i + 1, n) if rng.random() < p
+    )
+    return nx.freeze(G)
+
+
+def all_paths_oracle(G, X, Y):
+    """Every simple path from an x to a y with no other exposure on it (networkx, brute force)."""
+    U = G.to_undirected(as_view=True)
+    out = set()
+    for x in X:
+        for y in Y - X:
+            for p in nx.all_simple_paths(U, x, y):
+                if not set(p[1:]) & X:
+                    out.add(tuple(p))
+    return out
+
+
+def random_case(rng):
+    n = rng.randrange(3, 10)
+    G = nx.DiGraph()
+    G.add_nodes_from(f"v{i}" for i in range(n))
+    order = list(G)
+    rng.shuffle(order)
+    p = rng.uniform(0.2, 0.6)
+    G.add_edges_from(
+        (a, b) for i, a in enumerate(order) for b in order[i + 1 :] if rng.random() < p
+    )
+    nodes = list(G)
+    rng.shuffle(nodes)
+    kx, ky = rng.choice([1, 1, 2]), rng.choice([1, 2])
+    X, Y = set(nodes[:kx]), set(nodes[kx : kx + ky])
+    Z = {v for v in nodes[kx + ky :] if rng.random() < 0.4}
+    return nx.freeze(G), X, Y, Z
+
+
+def test_listings_match_networkx_and_the_definition_on_random_diagrams():
+    rng = random.Random(11)
+    for _ in range(300):
+        G, X, Y, Z = random_case(rng)
+        listed = list(simple_paths(G, X, Y))
+        assert len(listed) == len({tuple(p) for p in listed})  # no path twice
+        assert {tuple(p) for p in listed} == all_paths_oracle(G, X, Y)
+        opened = list(open_paths(G, X, Y, Z))
+        assert opened == [p for p in listed if not blocked(G, p, Z)]  # same order, open ones only
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_limit_5_on_a_dense_60_variable_diagram_stays_within_the_delay_bound(seed):
+    """Each next path costs at most |V| + 1 searches (simple_paths) and at most
+    (FORWARD_TRIES + 2)(2|V| + 1) (open_paths): the bounds argued in their docstrings."""
+    G = dense_dag(60, 0.3, seed)
+    n = G.number_of_nodes()
+    for listing, bound in (
+        (lambda steps: simple_paths(G, {"v0"}, {"v59"}, steps), n + 1),
+        (
+            lambda steps: open_paths(G, {"v0"}, {"v59"}, {"v1", "v2", "v30"}, steps),
+            (FORWARD_TRIES + 2) * (2 * n + 1),
+        ),
+    ):
+        steps = [0]
+        it = listing(steps)
+        last = 0
+        for _ in range(6):  # five paths, and the sixth that says the listing was cut
+            assert next(it) is not None
+            assert steps[0] - last <= bound, (steps[0] - last, bound)
+            last = steps[0]
+    paths, cut = enumerate_paths(G, {"v0"}, {"v59"}, 5)
+    assert len(paths) == 5 and cut
+
+
+def test_no_path_is_proved_within_the_bound():
+    """Exposure and outcome in different parts of the diagram: the listing ends
+    without a path after at most |V| + 1 searches, however dense the rest."""
+    G = nx.DiGraph(dense_dag(40, 0.5, 4))
+    G.add_edge("a", "b")
+    G = nx.freeze(G)
+    steps = [0]
+    assert list(simple_paths(G, {"v0"}, {"b"}, steps)) == []
+    assert steps[0] <= G.number_of_nodes() + 1
+
+
+def _dense_file(tmp_path):
+    rng = random.Random(5)
+    names = [f"v{i}" for i in range(60)]
+    lines = [
+        f"{a} -> {b}" for i, a in enumerate(names) for b in names[i + 1 :] if rng.random() < 0.3
+    ]
+    lines += ["analysis {", "  exposure: v0", "  outcome: v59", "  adjust: v1, v2", "}"]
+    p = tmp_path / "dense.dag"
+    p.write_text("\n".join(lines) + "\n")
+    return p
+
+
+def test_paths_lists_open_ones_first_and_open_lists_only_them(tmp_path):
+    p = _dense_file(tmp_path)
+    doc = json.loads(dagward("paths", str(p), "--limit", "30", "--format", "json").out)
+    rows = doc["analyses"][0]["paths"]
+    opens = [r["open"] for r in rows]
+    assert opens == sorted(opens, reverse=True) and opens[0]  # open ones first
+    doc = json.loads(dagward("paths", str(p), "--limit", "7", "--open", "--format", "json").out)
+    report = doc["analyses"][0]
+    assert (
+        len(report["paths"]) == 7
+        and all(r["open"] for r in report["paths"])
+        and report["truncated"]
+    )
+    run = dagward("paths", str(p), "--limit", "7", "--open")
+    assert "stopped after 7 open paths (--limit); more exist" in run.out
+
+
+def test_paths_open_on_the_sample_lists_the_open_paths_only():
+    run = dagward(
+        "paths", "samples/wellness.dag", "--analysis", "total_effect", "--open", "--format", "json"
+    )
+    rows = json.loads(run.out)["analyses"][0]["paths"]
+    assert [r["text"] for r in rows] == [
+        "enrolled -> fitness_12m -> sick_days",
+        "enrolled <- motivation -> fitness_12m -> sick_days",
+    ]
+
+
+def test_paths_given_with_a_misspelt_name_suggests_the_close_one():
+    run = dagward("paths", "samples/wellness.dag", "--given", "agee,shift_work")
+    assert run.code == 2
+    assert "--given names unknown variables: agee (did you mean age?)" in run.err
+    run = dagward("paths", "samples/wellness.dag", "--given", "zzzz")
+    assert run.code == 2 and "zzzz" in run.err and "did you mean" not in run.err
