@@ -37,7 +37,6 @@ from .dsep import (
     _state_search,
     ancestor_mask,
     ancestor_mask_ids,
-    ancestors_cut,
     connected_marks,
     d_separated_cut,
     new_tree,
@@ -700,5 +699,4 @@ __all__ = [
     "proper_backdoor_graph",
     "proper_backdoor_skip",
     "proper_causal_nodes",
-    "ancestors_cut",
 ]

@@ -428,12 +428,6 @@ def connected_marks(
     return False
 
 
-def ancestors_cut(G: nx.DiGraph, nodes: set[str], skip_edge: SkipEdge) -> set[str]:
-    """Ancestors (inclusive) in G with the arrows of ``skip_edge`` removed."""
-    ix = indexed(G)
-    return ix.names_in(ancestor_mask(ix, _as_set(G, nodes), skip_edge))
-
-
 def d_separated_cut(
     G: nx.DiGraph,
     xs: set[str],
