@@ -668,7 +668,61 @@ class Verdict:
             "front_door": None if self.front_door is None else list(self.front_door),
             "problems": [p.to_dict(self.graph) for p in self.problems],
             "notes": [p.to_dict(self.graph) for p in self.notes],
+            "question": self.question_dict(),
         }
+
+    def question_dict(self) -> dict:
+        """The question asked and what is particular to it (interfaces.md,
+        `adjustment` JSON, key `question`): the effect, the mediators, the
+        restriction; the minimal sets above are given the restriction (each is
+        valid with it forced in), and `stages`, `natural` and `selection` carry
+        the sequential plan, the three confounding questions and the restriction's
+        findings when they apply."""
+        out: dict = {
+            "effect": self.question,
+            "mediators": sorted(self.listed_mediators),
+            "restricted": sorted(self.restricted_all),
+        }
+        sel = self.selection
+        if sel is not None:
+            out["selection"] = {
+                "valid": sel.valid,
+                "recoverable": sel.recoverable,
+                "recovery_set": None
+                if sel.recovery_set is None
+                else sorted(sel.recovery_set),
+                "outcome_only": sel.outcome_only,
+                "odds_ratio_survives": sel.odds_ratio.survives,
+                "odds_ratio_set": None
+                if sel.odds_ratio.adjusted is None
+                else sorted(sel.odds_ratio.adjusted),
+            }
+        if self.restricted_all & self.outcome:
+            out["odds_ratio_only"] = True  # restricted on an outcome: case-control design
+        seq = self.sequential
+        if seq is not None:
+            out["stages"] = [
+                {
+                    "exposures": list(st.exposures),
+                    "covariates": sorted(st.covariates),
+                    "holds": st.holds,
+                }
+                for st in seq.stages
+            ]
+            out["sequential"] = seq.sequential
+            out["feedback"] = [f.variable for f in seq.feedback]
+        if self.natural is not None:
+            out["natural"] = {
+                part: {
+                    "exposure": sorted(v.exposure),
+                    "outcome": sorted(v.outcome),
+                    "declared_valid": v.declared_valid,
+                    "identifiable": v.identifiable,
+                }
+                for part, v in self.parts.items()
+            }
+            out["exposure_induced_confounders"] = [i.variable for i in self.natural.induced]
+        return out
 
 
 def _with_part(p: Problem, part: str) -> Problem:

@@ -26,8 +26,8 @@ import json
 from dagward.engine import lint_source
 from dagward.rules import VALIDITY_RULES
 from helpers.dag_text import to_dag_text
-from helpers.oracle import analysis_case, oracle_valid
-from helpers.question_oracles import oracle_induced, oracle_sets_given
+from helpers.oracle import analysis_case
+from helpers.question_oracles import oracle_sets_given, oracle_valid_for_question
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -51,25 +51,6 @@ def question_case(draw):
     return case, effect, M, R
 
 
-def oracle_valid_for_question(G, case, effect, M, R) -> bool:
-    X, Y = set(case.X), set(case.Y)
-    C = set(case.Z) - set(M) - set(R)
-    if not C <= case.measured:
-        return False
-    if effect == "total":
-        return oracle_valid(G, X, Y, C | (set(R) - X - Y))
-    if effect == "controlled-direct":
-        J = X | set(M)
-        return oracle_valid(G, J, Y, C | (set(R) - J - Y))
-    M = set(M)
-    return (
-        oracle_valid(G, X, Y, C | (set(R) - X - Y))
-        and oracle_valid(G, X, M, C | (set(R) - X - M))
-        and oracle_valid(G, M, Y, C | X | (set(R) - M - Y))
-        and not oracle_induced(G, X, M, Y)
-    )
-
-
 @settings(max_examples=2500, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(question_case())
 def test_declared_set_valid_for_question_iff_no_validity_rule_fires(drawn):
@@ -81,7 +62,9 @@ def test_declared_set_valid_for_question_iff_no_validity_rule_fires(drawn):
     result = lint_source(text, "random.dag")
     assert result.causal_ran, (text, result.findings)
     fired = {f.rule for f in result.findings} & VALIDITY_RULES
-    valid = oracle_valid_for_question(result.diagram.graph, case, effect, M, R)
+    valid = oracle_valid_for_question(
+        result.diagram.graph, case.X, case.Y, case.Z, case.measured, effect, M, R
+    )
     assert valid == (not fired), (text, sorted(fired))
     assert {"selection-bias", "exposure-induced-confounder", "needs-g-methods"} <= VALIDITY_RULES
     if not R:
