@@ -183,7 +183,11 @@ def _adjusted_mediator(p: Problem, v: Verdict) -> str:
     shown = f": it lies on the causal path {spell_path(v.graph, p.path)}" if p.path else ""
     return (
         f"adjusting for `{p.variable}` blocks part of the effect (it is a mediator){shown}; "
-        "remove it from `adjust:` to estimate the total effect"
+        + (
+            "remove it from `adjust:` to estimate the total effect"
+            if v.question == "total"
+            else "remove it from `adjust:`"
+        )
     )
 
 
@@ -303,11 +307,6 @@ def _selection_bias(p: Problem, v: Verdict) -> str:
             f"the data are restricted on `{r}`, an effect of {whose} `{p.source}` ({path}): "
             "who is in the data depends on the result being measured"
         )
-        if p.paths:
-            head += (
-                f"; it also opens the path {spell_path(v.graph, p.paths[0])} "
-                f"through `{p.collider}`, a common effect on that path (collider stratification)"
-            )
     elif p.collider is not None and path:
         where = (
             f"`{r}` is a common effect of its two neighbours on that path"
@@ -323,6 +322,11 @@ def _selection_bias(p: Problem, v: Verdict) -> str:
         head = f"restricting the data on `{r}` leaves the path {path} open"
     else:
         head = f"restricting the data on `{r}` biases the estimate whatever is adjusted"
+    if p.source_kind is not None and p.paths:
+        head += (
+            f"; it also opens the path {spell_path(v.graph, p.paths[0])} "
+            f"through `{p.collider}`, a common effect on that path (collider stratification)"
+        )
     sel = v.selection
     tail = []
     if sel is not None and sel.sets:
@@ -340,10 +344,15 @@ def _selection_bias(p: Problem, v: Verdict) -> str:
         tail.append("the effect is not recoverable from these data alone")
     if sel is not None and sel.outcome_only:
         if sel.odds_ratio.survives:
+            adjusted = sel.odds_ratio.adjusted
+            which = (
+                f"the odds ratio adjusted for {format_set(adjusted)}"
+                if adjusted
+                else "the unadjusted odds ratio"
+            )
             tail.append(
-                "the restriction depends on the outcome only, so the odds ratio adjusted for "
-                f"{format_set(sel.odds_ratio.adjusted)} is unbiased (as in case-control sampling), "
-                "while risks and risk differences are not"
+                f"the restriction depends on the outcome only, so {which} is unbiased "
+                "(as in case-control sampling), while risks and risk differences are not"
             )
         else:
             tail.append("the odds ratio does not survive either: the exposure affects selection too")
