@@ -26,15 +26,42 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def describe(diagram, analysis, given: set[str] | None, limit: int) -> dict:
+    """The paths that matter for the analysis's question: between the exposure (for
+    a controlled direct effect, the exposure and the mediators) and the outcome,
+    judged given the adjustment set and the restriction; for natural effects also
+    the mediator-outcome paths, given the adjustment set and the exposure."""
+    from ..verdict import Verdict
+
+    verdict = Verdict(diagram, analysis)
+    plain = verdict.question == "total" and not verdict.restricted_all
+    adjust = given if given is not None else set(analysis.adjust_set or ())
+    if plain:
+        return _describe(diagram, analysis.name, analysis.exposure_set, analysis.outcome_set,
+                         adjust, adjust, limit)  # fmt: skip
+    adjust = set(adjust) - verdict.listed_mediators
+    report = _describe(diagram, analysis.name, verdict.exposure, verdict.outcome, adjust,
+                       adjust | verdict.forced, limit)  # fmt: skip
+    report["question"] = verdict.question
+    report["restricted"] = sorted(verdict.restricted_all)
+    part = verdict.parts.get("mediator-outcome")
+    if part is not None:
+        # only the non-causal mediator-outcome paths: the confounding that matters
+        sub = _describe(diagram, analysis.name, part.exposure, part.outcome, adjust,
+                        adjust | part.forced, limit)  # fmt: skip
+        report["mediator_outcome_paths"] = [r for r in sub["paths"] if not r["causal"]]
+        report["mediator_outcome_truncated"] = sub["truncated"]
+    return report
+
+
+def _describe(diagram, name, X, Y, adjust, conditioned, limit: int) -> dict:
     from ..causal import describe_path, enumerate_paths, is_hidden
     from ..wording import spell_path
 
     g = diagram.graph
-    adjust = given if given is not None else set(analysis.adjust_set or ())
-    paths, cut = enumerate_paths(g, analysis.exposure_set, analysis.outcome_set, limit)
+    paths, cut = enumerate_paths(g, X, Y, limit)
     rows = []
     for p in paths:
-        info = describe_path(g, p, analysis.exposure_set, adjust)
+        info = describe_path(g, p, X, conditioned)
         rows.append({
             "path": ["<->" if is_hidden(g, n) else n for n in p],
             "text": spell_path(g, p),
@@ -48,7 +75,7 @@ def describe(diagram, analysis, given: set[str] | None, limit: int) -> dict:
     # causal paths first, then open non-causal ones (the problems), then the rest
     rows.sort(key=lambda r: (not r["causal"], r["causal"] or not r["open"]))
     return {
-        "name": analysis.name,
+        "name": name,
         "adjust": sorted(adjust),
         "paths": rows,
         "truncated": cut,
@@ -59,7 +86,7 @@ def _line(row: dict) -> str:
     kind = "causal    " if row["causal"] else "non-causal"
     if row["open"]:
         state = "open"
-        why = "; ".join(f"collider `{o['collider']}` opened by adjusting for `{o['by']}`"
+        why = "; ".join(f"collider `{o['collider']}` opened by conditioning on `{o['by']}`"
                         for o in row["opened_colliders"])  # fmt: skip
         if not row["causal"]:
             state = "OPEN (biasing)"
@@ -76,8 +103,20 @@ def render_text(file: str, reports: list[dict], limit: int) -> str:
     lines = []
     for r in reports:
         adjust = "{" + ", ".join(r["adjust"]) + "}"
-        lines.append(f"{file}: analysis {r['name']}, adjusting for {adjust}:")
+        restricted = (f", in data restricted on {{{', '.join(r['restricted'])}}}"
+                      if r.get("restricted") else "")  # fmt: skip
+        question = f" ({r['question'].replace('-', ' ')} effect)" if "question" in r else ""
+        lines.append(f"{file}: analysis {r['name']}{question}, adjusting for {adjust}{restricted}:")
         lines.extend(_line(row) for row in r["paths"])
+        if "mediator_outcome_paths" in r:
+            # the open ones only: they are the mediator-outcome confounding left
+            rows = r["mediator_outcome_paths"]
+            shown = [row for row in rows if row["open"]]
+            lines.append("  mediator-outcome confounding paths left open, given the adjustment "
+                         f"set and the exposure ({len(rows) - len(shown)} more blocked):")  # fmt: skip
+            lines.extend("  " + _line(row) for row in shown)
+            if not shown:
+                lines.append("    none")
         if not r["paths"]:
             lines.append("  no path joins the exposure and the outcome")
         if r["truncated"]:
