@@ -345,9 +345,7 @@ class Verdict:
 
     @staticmethod
     def _order(p: Problem):
-        order = {rule.name: i for i, rule in enumerate(CAUSAL_RULES)}
-        parts = (None, EXPOSURE_OUTCOME, EXPOSURE_MEDIATOR, MEDIATOR_OUTCOME)
-        return (order[p.rule], parts.index(p.part), p.variable or "")
+        return (_RULE_ORDER[p.rule], _PART_ORDER.index(p.part), p.variable or "")
 
     def _last_resort(self) -> list[Problem]:
         """An open non-causal path that the declared set and the forced variables
@@ -723,6 +721,10 @@ class Verdict:
             }
             out["exposure_induced_confounders"] = [i.variable for i in self.natural.induced]
         return out
+
+
+_RULE_ORDER = {rule.name: i for i, rule in enumerate(CAUSAL_RULES)}
+_PART_ORDER = (None, EXPOSURE_OUTCOME, EXPOSURE_MEDIATOR, MEDIATOR_OUTCOME)
 
 
 def _with_part(p: Problem, part: str) -> Problem:
