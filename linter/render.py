@@ -10,7 +10,7 @@ who do not tell colours apart -- only one shade of grey is used):
 | outcome | square-cornered box with a double outline |
 | unmeasured variable | dashed outline |
 | adjusted variable (in the analysis's `adjust:`) | light grey fill |
-| variable the data are restricted on (`restricted:`) | trapezium outline (the data hold one level of it) |
+| variable the data are restricted on (`restricted:`) | trapezium outline |
 | arrow | thin solid line |
 | arrow on a causal path from exposure to outcome | thick solid line |
 | arrow on an open non-causal path (given `adjust:`) | dotted line |

@@ -362,7 +362,8 @@ class Verdict:
                 )
             ]
         fix = () if path is None else tuple(sorted(v for v in path[1:-1] if v in self.fixable))
-        return [Problem("open-biasing-path", path=None if path is None else tuple(path), fixable=fix)]
+        shown = None if path is None else tuple(path)
+        return [Problem("open-biasing-path", path=shown, fixable=fix)]
 
     # -- the questions beyond the total effect --------------------------------------
     @cached_property

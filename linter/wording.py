@@ -338,7 +338,8 @@ def _selection_bias(p: Problem, v: Verdict) -> str:
     if sel is not None and sel.recoverable:
         tail.append(
             "the effect in the whole population is still recoverable from these data with "
-            f"{format_set(sel.recovery_set)} when their distribution in the whole population is known"
+            f"{format_set(sel.recovery_set)} when their distribution in the whole population "
+            "is known"
         )
     elif sel is not None and not sel.sets:
         tail.append("the effect is not recoverable from these data alone")
@@ -355,7 +356,9 @@ def _selection_bias(p: Problem, v: Verdict) -> str:
                 "(as in case-control sampling), while risks and risk differences are not"
             )
         else:
-            tail.append("the odds ratio does not survive either: the exposure affects selection too")
+            tail.append(
+                "the odds ratio does not survive either: the exposure affects selection too"
+            )
     return head + ("; " + "; ".join(tail) if tail else "")
 
 

@@ -56,15 +56,16 @@ def render_text(file: str, diagram, reports: list[dict], max_sets: int) -> str:
             lines.append(f"  declared set: {format_set(r['declared'])} is not valid{why}")
             lines.extend(f"    - {problem_message(p, verdict)} [{p.rule}]" for p in own)
         given = " (each with the restriction)" if verdict.restricted else ""
+        asked = " for this question" if verdict.question != "total" or given else ""
         if not r["identifiable"]:
-            lines.append("  no valid adjustment set exists among the measured variables"
-                         f"{' for this question' if verdict.question != 'total' or given else ''}")  # fmt: skip
+            lines.append(f"  no valid adjustment set exists among the measured variables{asked}")
             for p in verdict.problems:
                 if p.rule in ("unmeasured-confounding", "needs-g-methods"):
                     lines.append(f"    - {problem_message(p, verdict)} [{p.rule}]")
             if r["best_achievable"] is not None:
-                lines.append(f"  best achievable set: {format_set(r['best_achievable'])} "
-                             "(closes every confounding path that measured variables can close)")  # fmt: skip
+                best = format_set(r["best_achievable"])
+                lines.append(f"  best achievable set: {best} (closes every confounding path "
+                             "that measured variables can close)")  # fmt: skip
             if r["best_achievable"] is None:
                 pass
             elif r["front_door"]:
@@ -75,8 +76,8 @@ def render_text(file: str, diagram, reports: list[dict], max_sets: int) -> str:
                 lines.append("  covariates meeting all three conditions (not affected by the "
                              f"exposure{', with the restriction' if given else ''}):")  # fmt: skip
             else:
-                lines.append(f"  minimal valid sets{given} ({len(r['minimal_sets'])}"
-                             f"{', cut at --max ' + str(max_sets) if r['truncated'] else ''}):")  # fmt: skip
+                cut = f", cut at --max {max_sets}" if r["truncated"] else ""
+                lines.append(f"  minimal valid sets{given} ({len(r['minimal_sets'])}{cut}):")
             lines.extend(f"    {format_set(s)}" for s in r["minimal_sets"])
     if not reports:
         lines.append(f"{file}: no analysis to report on")

@@ -112,8 +112,9 @@ def render_text(file: str, reports: list[dict], limit: int) -> str:
             # the open ones only: they are the mediator-outcome confounding left
             rows = r["mediator_outcome_paths"]
             shown = [row for row in rows if row["open"]]
-            lines.append("  mediator-outcome confounding paths left open, given the adjustment "
-                         f"set and the exposure ({len(rows) - len(shown)} more blocked):")  # fmt: skip
+            more = len(rows) - len(shown)
+            lines.append("  mediator-outcome confounding paths left open, given the "
+                         f"adjustment set and the exposure ({more} more blocked):")  # fmt: skip
             lines.extend("  " + _line(row) for row in shown)
             if not shown:
                 lines.append("    none")

@@ -101,7 +101,9 @@ def per_adjusted_variable(ctx: Context, rule: Rule) -> Iterator[Finding]:
                 yield problem_finding(ctx, rule, n.span, analysis, verdict, problem)
 
 
-def per_listed_name(ctx: Context, rule: Rule, key: str, attribute: str = "variable") -> Iterator[Finding]:
+def per_listed_name(
+    ctx: Context, rule: Rule, key: str, attribute: str = "variable"
+) -> Iterator[Finding]:
     """One finding per problem under `rule`, at the name in the analysis key `key`
     (`restricted:`, `mediator:`) that the problem's `attribute` names; at the
     key's first name, or the header, when that name is not listed."""
@@ -125,5 +127,6 @@ def per_analysis(ctx: Context, rule: Rule, span_of=lambda a: a.header) -> Iterat
             own = verdict.verdict_of(problem)
             sets = own.suggestions() if problem.rule == "open-biasing-path" else None
             yield problem_finding(
-                ctx, rule, span_of(analysis), analysis, verdict, problem, suggested_sets=sets or None
+                ctx, rule, span_of(analysis), analysis, verdict, problem,
+                suggested_sets=sets or None,
             )
