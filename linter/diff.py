@@ -135,6 +135,11 @@ class Reason:
     rule: str
     variable: str | None
     problem: Problem = field(compare=False, repr=False)
+    part: str | None = None  # natural effects: which confounding question
+
+
+def _reason(p: Problem) -> Reason:
+    return Reason(p.rule, p.variable, p, p.part)
 
 
 @dataclass(frozen=True)
@@ -156,6 +161,10 @@ class AnalysisState:
     best_achievable: Names | None = None
     front_door_holds: bool | None = None  # None: not looked for (a valid set exists)
     front_door: Names | None = field(default=None, compare=False)  # a witness set
+    # the question asked (`effect:`), its mediators and the restriction
+    question: str = "total"
+    mediators: Names = ()
+    restricted: Names = ()
     verdict: Verdict | None = field(default=None, compare=False, repr=False)
 
     @property
@@ -292,6 +301,9 @@ def analysis_state(side: Side, name: str, max_sets: int) -> AnalysisState:
         exposure=sorted_set(analysis.exposure_set),
         outcome=sorted_set(analysis.outcome_set),
         declared=None if Z is None else sorted_set(Z),
+        question=analysis.effect,
+        mediators=sorted_set(analysis.mediator_set),
+        restricted=sorted_set(analysis.restricted_set),
     )
     if not side.result.causal_ran:
         return AnalysisState(checked=False, note=_structure_note(side.result), **roles)
@@ -304,8 +316,8 @@ def analysis_state(side: Side, name: str, max_sets: int) -> AnalysisState:
         return AnalysisState(
             checked=True,
             declared_valid=verdict.declared_valid,
-            reasons=tuple(Reason(p.rule, p.variable, p) for p in verdict.problems),
-            notes=tuple(Reason(p.rule, p.variable, p) for p in verdict.notes),
+            reasons=tuple(_reason(p) for p in verdict.problems),
+            notes=tuple(_reason(p) for p in verdict.notes),
             identifiable=verdict.identifiable,
             minimal_sets=minimal,
             truncated=truncated,
@@ -457,6 +469,9 @@ def _compare_analyses(
                 ("exposure", before.exposure, after.exposure),
                 ("outcome", before.outcome, after.outcome),
                 ("adjust", before.declared, after.declared),
+                ("effect", (before.question,), (after.question,)),
+                ("mediator", before.mediators, after.mediators),
+                ("restriction", before.restricted, after.restricted),
             ):
                 if b != a:
                     roles.append(RoleChange(role, b, a))

@@ -10,6 +10,7 @@ who do not tell colours apart -- only one shade of grey is used):
 | outcome | square-cornered box with a double outline |
 | unmeasured variable | dashed outline |
 | adjusted variable (in the analysis's `adjust:`) | light grey fill |
+| variable the data are restricted on (`restricted:`) | trapezium outline |
 | arrow | thin solid line |
 | arrow on a causal path from exposure to outcome | thick solid line |
 | arrow on an open non-causal path (given `adjust:`) | dotted line |
@@ -93,10 +94,11 @@ class NodeStyle:
     outcome: bool = False
     unmeasured: bool = False
     adjusted: bool = False
+    restricted: bool = False
 
     @property
     def classes(self) -> tuple[str, ...]:
-        kinds = ("exposure", "outcome", "unmeasured", "adjusted")
+        kinds = ("exposure", "outcome", "unmeasured", "adjusted", "restricted")
         return tuple(k for k in kinds if getattr(self, k))
 
 
@@ -166,6 +168,7 @@ def picture(
     X = analysis.exposure_set if analysis else frozenset()
     Y = analysis.outcome_set if analysis else frozenset()
     Z = (analysis.adjust_set or frozenset()) if analysis else frozenset()
+    R = analysis.restricted_set if analysis else frozenset()
     causal_edges: set[tuple[str, str]] = set()
     open_directed: set[tuple[str, str]] = set()
     open_bidirected: set[frozenset[str]] = set()
@@ -179,7 +182,9 @@ def picture(
         for u, v in diagram.directed_graph_without_hidden.edges:
             if (u in X or u in cn) and v in cn:
                 causal_edges.add((u, v))
-        paths, complete = _open_noncausal_paths(diagram, X, Y, Z)
+        # the data are conditioned on the restriction too (a restriction on an
+        # exposure or an outcome is the design and is left out)
+        paths, complete = _open_noncausal_paths(diagram, X, Y, Z | (R - X - Y))
         for path in paths:
             open_paths.append(_display_path(diagram, path))
             for u, v in zip(path, path[1:], strict=False):
@@ -198,6 +203,7 @@ def picture(
             outcome=v in Y,
             unmeasured=v in diagram.unmeasured,
             adjusted=v in Z,
+            restricted=v in R,
         )
         for v in diagram.variables
     )
@@ -322,6 +328,8 @@ def _dot_node(node: NodeStyle) -> str:
         attrs += ["shape=hexagon", "penwidth=2.5", 'margin="0.02,0.04"']
     elif node.outcome:
         attrs += ["shape=box", "peripheries=2", "penwidth=1.4"]
+    elif node.restricted:
+        attrs += ["shape=trapezium", "penwidth=1.4"]
     else:
         style.append("rounded")
     if node.unmeasured:
@@ -372,6 +380,8 @@ def key_items(pic: Picture) -> tuple[list[str], list[str]]:
         roles.append("double box: outcome")
     if any(n.adjusted for n in pic.nodes):
         roles.append("grey: adjusted")
+    if any(n.restricted and not n.exposure and not n.outcome for n in pic.nodes):
+        roles.append("trapezium: the data are restricted on it")
     if any(n.unmeasured for n in pic.nodes):
         roles.append("dashed outline: unmeasured")
     lines_key = []
@@ -480,6 +490,8 @@ def to_mermaid(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
             shape = '{{"%s"}}'
         elif node.outcome:
             shape = '[["%s"]]'
+        elif node.restricted:
+            shape = '[/"%s"\\]'
         else:
             shape = '("%s")'
         return f"  {ids[node.name]}{shape % text}"

@@ -13,6 +13,29 @@ own. A verdict answers, as structured data:
 * notes that do not bear on validity (an instrument-like adjusted variable, no
   causal path at all).
 
+The verdict also knows which question the analysis asks (``question``: the
+total effect, a controlled direct effect, a natural direct or indirect effect)
+and how its sample was drawn (``restricted``). Each question is a kind of
+verdict, not a side path:
+
+* a restricted sample: the declared set Z is judged together with the
+  restriction R (conditioning on Z and R); failures caused by R are
+  ``selection-bias`` problems, failures caused by Z stay with the usual rules
+  (Hernan, Hernandez-Diaz & Robins 2004). A restriction on an outcome itself
+  (case-control sampling on the outcome) is the design, not a bias of the
+  adjustment, and is left out of the conditioning set (only the odds ratio can
+  be estimated, which ``adjustment`` says);
+* ``controlled-direct``: Z judged for the joint exposure X and the mediators;
+* ``natural-direct`` / ``natural-indirect``: three part verdicts
+  (exposure-outcome, exposure-mediator, mediator-outcome given the exposure;
+  VanderWeele & Vansteelandt 2009), whose problems carry ``part``, plus
+  ``exposure-induced-confounder`` (Avin, Shpitser & Pearl 2005);
+* several exposures with no single valid set but the sequential back-door
+  criterion holding (Pearl & Robins 1995): ``needs-g-methods`` instead of
+  ``unmeasured-confounding``.
+
+A plain total-effect analysis computes nothing of this.
+
 Wording is built from these records in :mod:`dagward.wording`; nothing here
 writes a sentence. Everything is computed lazily, so ``check`` on a valid
 analysis pays for one linear validity test and no more.
@@ -44,6 +67,17 @@ from .causal import (
     proper_causal_nodes,
     smallest_adjustment_set,
 )
+from .causal.questions import (
+    EXPOSURE_MEDIATOR,
+    EXPOSURE_OUTCOME,
+    MEDIATOR_OUTCOME,
+    implied_stages,
+    minimal_adjustment_sets_given,
+    natural_effect_verdict,
+    selection_verdict,
+    sequential_verdict,
+    stages_from_periods,
+)
 from .model import Analysis, Diagram
 from .rules import CAUSAL_RULES, VALIDITY_RULES
 
@@ -73,11 +107,17 @@ class Problem:
     source_kind: str | None = None  # "outcome" | "mediator"
     fixable: tuple[str, ...] = ()  # open-biasing-path: adjustable variables on `path`
     given: tuple[str, ...] = ()  # instrument-adjusted: adjusted variables the claim needs
+    # natural effects: which of the three confounding questions (EXPOSURE_OUTCOME,
+    # EXPOSURE_MEDIATOR, MEDIATOR_OUTCOME) the problem concerns; None: the analysis
+    part: str | None = None
+    # exposure-induced-confounder: the paths from the exposure, to the mediator and
+    # to the outcome; selection-bias: unused
+    paths: tuple[tuple[str, ...], ...] = ()
 
     def to_dict(self, graph=None) -> dict:
         """JSON: paths as `json_path` writes them when the graph is given."""
         out: dict = {"rule": self.rule}
-        for key in ("variable", "collider", "source", "source_kind"):
+        for key in ("variable", "collider", "source", "source_kind", "part"):
             value = getattr(self, key)
             if value is not None:
                 out[key] = value
@@ -87,6 +127,10 @@ class Problem:
             out["fixable"] = list(self.fixable)
         if self.given:
             out["given"] = list(self.given)
+        if self.paths:
+            out["paths"] = [
+                list(q if graph is None else json_path(graph, q)) for q in self.paths
+            ]
         return out
 
 
@@ -97,15 +141,50 @@ def _sorted_sets(sets) -> tuple[tuple[str, ...], ...]:
 class Verdict:
     """The judgement of one analysis of one diagram (see the module docstring)."""
 
-    def __init__(self, diagram: Diagram, analysis: Analysis):
+    def __init__(
+        self,
+        diagram: Diagram,
+        analysis: Analysis,
+        *,
+        _part: str | None = None,
+        _roles: tuple | None = None,
+    ):
         self.diagram = diagram
         self.analysis = analysis
         self.name = analysis.name
         self.graph = diagram.graph
-        self.exposure = frozenset(analysis.exposure_set)
-        self.outcome = frozenset(analysis.outcome_set)
-        self.declared: frozenset[str] | None = analysis.adjust_set
         self.measured = diagram.measured
+        self.part = _part
+        question = analysis.effect
+        self.question: str = question
+        self.listed_mediators: frozenset[str] = (
+            frozenset(analysis.mediator_set) if question != "total" else frozenset()
+        )
+        self.restricted_all: frozenset[str] = frozenset(analysis.restricted_set)
+        declared = analysis.adjust_set
+        if _roles is not None:  # a part of a natural-effect verdict
+            exposure, outcome, declared, extra = _roles
+        else:
+            exposure = frozenset(analysis.exposure_set)
+            outcome = frozenset(analysis.outcome_set)
+            extra = frozenset()
+            if question == "controlled-direct":
+                # the joint exposure: X and the mediators held fixed
+                exposure = exposure | self.listed_mediators
+            if question != "total" and declared is not None:
+                declared = declared - self.listed_mediators
+        self.exposure = frozenset(exposure)
+        self.outcome = frozenset(outcome)
+        # the restriction that is conditioned on (a restriction on an exposure or an
+        # outcome of this question is the design itself, not a conditioning variable)
+        self.restricted: frozenset[str] = self.restricted_all - self.exposure - self.outcome
+        if declared is not None:
+            declared = declared - self.restricted
+        self.declared: frozenset[str] | None = declared
+        # conditioned on besides the declared set: the restriction, and for the
+        # mediator-outcome part of natural effects the exposure
+        self.extra: frozenset[str] = frozenset(extra) - self.exposure - self.outcome
+        self.forced: frozenset[str] = self.restricted | self.extra
 
     # -- the structure of the question ------------------------------------------
     @cached_property
@@ -127,13 +206,26 @@ class Verdict:
     @cached_property
     def fixable(self) -> frozenset[str]:
         """Variables an adjustment set may hold: measured, not forbidden, not X or Y."""
-        return self.measured - self.forbidden - self.exposure - self.outcome
+        return self.measured - self.forbidden - self.exposure - self.outcome - self.forced
 
     # -- is there a valid set at all ---------------------------------------------
     @cached_property
     def identifiable(self) -> bool:
-        """A valid adjustment set exists among the measured variables."""
+        """A valid adjustment set exists among the measured variables (with the
+        restriction, and any other forced variable, in it)."""
+        if self.natural is not None:
+            return all(v.identifiable for v in self.parts.values()) and not self.natural.induced
+        if self.forced:
+            return self._first_given is not None
         return adjustment_exists(self.graph, self.exposure, self.outcome, self.measured)
+
+    @cached_property
+    def _first_given(self) -> frozenset[str] | None:
+        for s in minimal_adjustment_sets_given(
+            self.graph, self.exposure, self.outcome, self.measured, self.forced, 1
+        ):
+            return s
+        return None
 
     @cached_property
     def minimal_sets(self) -> tuple[tuple[str, ...], ...]:
@@ -146,9 +238,19 @@ class Verdict:
         if not self.identifiable:
             return (), False
         found = []
-        for s in minimal_adjustment_sets(
-            self.graph, self.exposure, self.outcome, self.measured, limit + 1
-        ):
+        if self.natural is not None:
+            covariates = self.natural.covariates
+            return ((tuple(sorted(covariates)),) if covariates is not None else ()), False
+        listing = (
+            minimal_adjustment_sets_given(
+                self.graph, self.exposure, self.outcome, self.measured, self.forced, limit + 1
+            )
+            if self.forced
+            else minimal_adjustment_sets(
+                self.graph, self.exposure, self.outcome, self.measured, limit + 1
+            )
+        )
+        for s in listing:
             if len(found) == limit:
                 return _sorted_sets(found), True
             found.append(s)
@@ -158,6 +260,9 @@ class Verdict:
     def smallest(self) -> tuple[str, ...] | None:
         if not self.identifiable:
             return None
+        if self.forced or self.natural is not None:
+            # the smallest of those listed (the listing is sorted by size)
+            return self.minimal_sets[0] if self.minimal_sets else None
         s = smallest_adjustment_set(self.graph, self.exposure, self.outcome, self.measured)
         return None if s is None else tuple(sorted(s))
 
@@ -175,24 +280,27 @@ class Verdict:
         exposures and outcomes (the canonical set; van der Zander, Liskiewicz &
         Textor 2019). It closes every confounding path that any set of measured
         variables can close. None when a valid set exists."""
-        if self.identifiable:
+        if self.identifiable or self.natural is not None:
             return None
-        return tuple(
-            sorted(canonical_adjustment(self.graph, self.exposure, self.outcome, self.measured))
-        )
+        canonical = canonical_adjustment(self.graph, self.exposure, self.outcome, self.measured)
+        return tuple(sorted(set(canonical) - self.forced))
 
     @cached_property
     def unblockable_path(self) -> tuple[str, ...] | None:
         """A path that the best achievable set (so every measured set) leaves open."""
-        if self.identifiable:
+        if self.identifiable or self.natural is not None:
             return None
         canonical = canonical_adjustment(self.graph, self.exposure, self.outcome, self.measured)
+        canonical = (set(canonical) | self.forced) - self.forbidden
         path = open_noncausal_path(self.graph, self.exposure, self.outcome, canonical)
         return None if path is None else tuple(path)
 
     @cached_property
     def front_door(self) -> tuple[str, ...] | None:
-        """A measured set for which the front-door criterion holds (Pearl 1995), or None."""
+        """A measured set for which the front-door criterion holds (Pearl 1995), or None
+        (asked for the plain total effect only)."""
+        if self.question != "total" or self.forced:
+            return None
         found = front_door_set(self.graph, self.exposure, self.outcome, self.measured)
         return None if found is None else tuple(sorted(found))
 
@@ -201,22 +309,209 @@ class Verdict:
     def declared_valid(self) -> bool | None:
         if self.declared is None:
             return None
+        if self.natural is not None:
+            return all(v.declared_valid for v in self.parts.values()) and not self.natural.induced
         return self.declared <= self.measured and is_valid_adjustment(
-            self.graph, self.exposure, self.outcome, self.declared
+            self.graph, self.exposure, self.outcome, self.declared | self.forced
         )
 
     @cached_property
     def problems(self) -> tuple[Problem, ...]:
-        """Why the declared set is not valid (empty when it is, or when none is
-        declared, except for `unmeasured-confounding`, which is about the
-        analysis). In catalogue order, then by the variable's name."""
+        """Why the declared set is not valid for the question (empty when it is, or
+        when none is declared, except for the problems of the analysis as a whole:
+        `unmeasured-confounding`, `needs-g-methods`, `selection-bias` of a
+        restriction no set repairs, `exposure-induced-confounder`). In catalogue
+        order, then by the variable's name."""
+        if self.natural is not None:
+            return self._natural_problems()
         out: list[Problem] = []
         if self.declared is not None and not self.declared_valid:
             out.extend(self._declared_problems())
+            out.extend(self._restriction_problems())
         if not self.identifiable:
-            out.append(Problem("unmeasured-confounding", path=self.unblockable_path))
+            if self.restricted and self._restriction_to_blame:
+                if not any(p.rule == "selection-bias" for p in out):
+                    out.extend(self._restriction_problems(always=True))
+            elif self.sequential is not None and self.sequential.needs_g_methods:
+                out.append(Problem("needs-g-methods"))
+            else:
+                out.append(Problem("unmeasured-confounding", path=self.unblockable_path))
+        if self.declared_valid is False and not any(p.rule in VALIDITY_RULES for p in out):
+            out.extend(self._last_resort())
         if self.declared_valid is False and not out:  # pragma: no cover - a bug guard
             raise AssertionError(f"analysis {self.name}: invalid set with no reason found")
+        out.sort(key=self._order)
+        return tuple(out)
+
+    @staticmethod
+    def _order(p: Problem):
+        return (_RULE_ORDER[p.rule], _PART_ORDER.index(p.part), p.variable or "")
+
+    def _last_resort(self) -> list[Problem]:
+        """An open non-causal path that the declared set and the forced variables
+        leave open while no named rule explained it (the forced variables are to
+        blame: the restriction, or the exposure in the mediator-outcome part)."""
+        S = (self.declared or frozenset()) | self.forced
+        path = open_noncausal_path(self.graph, self.exposure, self.outcome, S)
+        if self.restricted:
+            return [
+                Problem(
+                    "selection-bias",
+                    variable=sorted(self.restricted)[0],
+                    path=None if path is None else tuple(path),
+                )
+            ]
+        fix = () if path is None else tuple(sorted(v for v in path[1:-1] if v in self.fixable))
+        shown = None if path is None else tuple(path)
+        return [Problem("open-biasing-path", path=shown, fixable=fix)]
+
+    # -- the questions beyond the total effect --------------------------------------
+    @cached_property
+    def selection(self):
+        """The restricted-sample verdict (dagward.causal.questions.SelectionVerdict),
+        or None without a restriction."""
+        if not self.restricted:
+            return None
+        Z = None if self.declared is None else self.declared | self.extra
+        return selection_verdict(
+            self.graph, self.exposure, self.outcome, Z, self.restricted, self.measured
+        )
+
+    @cached_property
+    def plain_identifiable(self) -> bool:
+        """A valid set exists for the question when the restriction is ignored."""
+        extra = self.extra
+        if not extra:
+            return adjustment_exists(self.graph, self.exposure, self.outcome, self.measured)
+        for _ in minimal_adjustment_sets_given(
+            self.graph, self.exposure, self.outcome, self.measured, extra, 1
+        ):
+            return True
+        return False
+
+    @cached_property
+    def _restriction_to_blame(self) -> bool:
+        """No valid set exists with the restriction, and the restriction is why: it is
+        forbidden, or a valid set exists without it."""
+        sel = self.selection
+        return bool(sel is not None and (sel.forbidden or self.plain_identifiable))
+
+    def _restriction_problems(self, always: bool = False) -> list[Problem]:
+        """`selection-bias`: a forbidden restriction, or one that opens a path."""
+        sel = self.selection
+        if sel is None:
+            return []
+        out: dict[str, Problem] = {}
+        for f in sel.forbidden:
+            out[f.variable] = Problem(
+                "selection-bias",
+                variable=f.variable,
+                path=f.path,
+                source=f.via,
+                source_kind=f.kind,
+                part=self.part,
+            )
+        for o in sel.opened:
+            if o.variable in out:  # forbidden and opening a path too: show both
+                from dataclasses import replace
+
+                out[o.variable] = replace(out[o.variable], paths=(o.path,), collider=o.collider)
+            else:
+                out[o.variable] = Problem(
+                    "selection-bias",
+                    variable=o.variable,
+                    path=o.path,
+                    collider=o.collider,
+                    part=self.part,
+                )
+        if always and not out:
+            out[sorted(self.restricted)[0]] = Problem(
+                "selection-bias",
+                variable=sorted(self.restricted)[0],
+                path=self.unblockable_path,
+                part=self.part,
+            )
+        return list(out.values())
+
+    @cached_property
+    def stages(self) -> tuple[tuple[str, ...], ...] | None:
+        """The stages of a joint exposure, earliest first: by period when every
+        exposure has one, else the order the diagram implies; for a controlled
+        direct effect the exposures, then the mediators. None with one exposure."""
+        if len(self.exposure) < 2 or self.natural is not None or self.part is not None:
+            return None
+        G = self.graph
+        if self.question == "controlled-direct":
+            X = self.exposure - self.listed_mediators
+            return (tuple(sorted(X)), *implied_stages(G, self.listed_mediators))
+        period_of = {
+            n.text: i for i, (_, members) in enumerate(self.diagram.periods) for n in members
+        }
+        return stages_from_periods(G, self.exposure, period_of)
+
+    @cached_property
+    def sequential(self):
+        """The sequential back-door verdict (SequentialVerdict) when a joint exposure
+        has no single valid set and no restriction; None otherwise."""
+        if self.stages is None or len(self.stages) < 2 or self.forced:
+            return None
+        if adjustment_exists(self.graph, self.exposure, self.outcome, self.measured):
+            return None
+        return sequential_verdict(self.graph, self.stages, self.outcome, self.measured)
+
+    @cached_property
+    def natural(self):
+        """The natural-effect verdict (NaturalEffectVerdict) for `natural-direct` and
+        `natural-indirect`; None for the other questions."""
+        if self.part is not None or not self.question.startswith("natural"):
+            return None
+        if not self.listed_mediators:
+            return None
+        return natural_effect_verdict(
+            self.graph, self.exposure, self.listed_mediators, self.outcome, None, self.measured
+        )
+
+    @cached_property
+    def parts(self) -> dict[str, Verdict]:
+        """The three confounding questions of natural effects as verdicts of their
+        own (VanderWeele & Vansteelandt 2009): the declared set for exposure ->
+        outcome and exposure -> mediator, and with the exposure for mediator ->
+        outcome. Empty for the other questions."""
+        if self.natural is None:
+            return {}
+        X, M, Y, Z = self.exposure, self.listed_mediators, self.outcome, self.declared
+        roles = {
+            EXPOSURE_OUTCOME: (X, Y, Z, frozenset()),
+            EXPOSURE_MEDIATOR: (X, M, Z, frozenset()),
+            MEDIATOR_OUTCOME: (M, Y, Z, X),
+        }
+        return {
+            part: Verdict(self.diagram, self.analysis, _part=part, _roles=r)
+            for part, r in roles.items()
+        }
+
+    def verdict_of(self, problem: Problem) -> Verdict:
+        """The verdict a problem was found by (its part's, for natural effects)."""
+        if problem.part is not None and problem.part in self.parts:
+            return self.parts[problem.part]
+        return self
+
+    def _natural_problems(self) -> tuple[Problem, ...]:
+        out: list[Problem] = []
+        for part, v in self.parts.items():
+            for p in v.problems:
+                out.append(p if p.part == part else _with_part(p, part))
+        for ic in self.natural.induced:
+            mediator = ic.to_mediator[-1]
+            out.append(
+                Problem(
+                    "exposure-induced-confounder",
+                    variable=ic.variable,
+                    source=mediator,
+                    paths=(ic.from_exposure, ic.to_mediator, ic.to_outcome),
+                )
+            )
+        out.sort(key=self._order)
         return tuple(out)
 
     def problems_of(self, rule: str) -> list[Problem]:
@@ -238,8 +533,9 @@ class Verdict:
                     "adjusted-descendant", variable=z, path=path, source=source, source_kind=kind
                 )
             )
-        colliders, confounding = self._open_path_witnesses(Z)
-        for z in sorted(colliders):
+        S = Z | self.forced
+        colliders, confounding = self._open_path_witnesses(S)
+        for z in sorted(set(colliders) & Z):
             path, c = colliders[z]
             out.append(Problem("collider-adjusted", variable=z, path=path, collider=c))
         if confounding is not None:
@@ -247,8 +543,8 @@ class Verdict:
             out.append(Problem("open-biasing-path", path=confounding, fixable=fix))
         if not out and self.identifiable:
             out.extend(self._fallback_problems(Z))
-        order = {rule.name: i for i, rule in enumerate(CAUSAL_RULES)}
-        out.sort(key=lambda p: (order[p.rule], p.variable or ""))
+        if self.part is not None:
+            out = [_with_part(p, self.part) for p in out]
         return out
 
     def _open_path_witnesses(self, Z: frozenset[str]):
@@ -277,9 +573,9 @@ class Verdict:
         confounding path, fixable or else an unmeasured-confounding case).
         """
         G = self.graph
-        if Z & self.forbidden or not Z <= self.measured:
+        if Z & self.forbidden or not Z <= self.measured or self.forced & self.forbidden:
             return []
-        path = open_noncausal_path(G, self.exposure, self.outcome, Z)
+        path = open_noncausal_path(G, self.exposure, self.outcome, Z | self.forced)
         if path is None:
             return []
         succ = G.succ
@@ -289,6 +585,8 @@ class Verdict:
                 from .causal import descendants
 
                 below = sorted((descendants(G, {c}) | {c}) & Z)
+                if not below:  # the collider is conditioned on through a forced variable
+                    return []
                 return [
                     Problem("collider-adjusted", variable=z, path=tuple(path), collider=c)
                     for z in below[:1]
@@ -369,7 +667,71 @@ class Verdict:
             "front_door": None if self.front_door is None else list(self.front_door),
             "problems": [p.to_dict(self.graph) for p in self.problems],
             "notes": [p.to_dict(self.graph) for p in self.notes],
+            "question": self.question_dict(),
         }
+
+    def question_dict(self) -> dict:
+        """The question asked and what is particular to it (interfaces.md,
+        `adjustment` JSON, key `question`): the effect, the mediators, the
+        restriction; the minimal sets above are given the restriction (each is
+        valid with it forced in), and `stages`, `natural` and `selection` carry
+        the sequential plan, the three confounding questions and the restriction's
+        findings when they apply."""
+        out: dict = {
+            "effect": self.question,
+            "mediators": sorted(self.listed_mediators),
+            "restricted": sorted(self.restricted_all),
+        }
+        sel = self.selection
+        if sel is not None:
+            out["selection"] = {
+                "valid": sel.valid,
+                "recoverable": sel.recoverable,
+                "recovery_set": None
+                if sel.recovery_set is None
+                else sorted(sel.recovery_set),
+                "outcome_only": sel.outcome_only,
+                "odds_ratio_survives": sel.odds_ratio.survives,
+                "odds_ratio_set": None
+                if sel.odds_ratio.adjusted is None
+                else sorted(sel.odds_ratio.adjusted),
+            }
+        if self.restricted_all & self.outcome:
+            out["odds_ratio_only"] = True  # restricted on an outcome: case-control design
+        seq = self.sequential
+        if seq is not None:
+            out["stages"] = [
+                {
+                    "exposures": list(st.exposures),
+                    "covariates": sorted(st.covariates),
+                    "holds": st.holds,
+                }
+                for st in seq.stages
+            ]
+            out["sequential"] = seq.sequential
+            out["feedback"] = [f.variable for f in seq.feedback]
+        if self.natural is not None:
+            out["natural"] = {
+                part: {
+                    "exposure": sorted(v.exposure),
+                    "outcome": sorted(v.outcome),
+                    "declared_valid": v.declared_valid,
+                    "identifiable": v.identifiable,
+                }
+                for part, v in self.parts.items()
+            }
+            out["exposure_induced_confounders"] = [i.variable for i in self.natural.induced]
+        return out
+
+
+_RULE_ORDER = {rule.name: i for i, rule in enumerate(CAUSAL_RULES)}
+_PART_ORDER = (None, EXPOSURE_OUTCOME, EXPOSURE_MEDIATOR, MEDIATOR_OUTCOME)
+
+
+def _with_part(p: Problem, part: str) -> Problem:
+    from dataclasses import replace
+
+    return replace(p, part=part)
 
 
 def json_path(graph, path) -> tuple[str, ...]:

@@ -137,8 +137,43 @@ def independence_text(a: str, b: str, given: Iterable[str]) -> str:
 
 
 def problem_message(problem: Problem, verdict: Verdict) -> str:
-    """The message of one problem of a verdict, built from its fields."""
-    return _MESSAGES[problem.rule](problem, verdict)
+    """The message of one problem of a verdict, built from its fields. A problem
+    of one of the three questions of a natural effect says which one it is."""
+    own = verdict.verdict_of(problem)
+    text = _MESSAGES[problem.rule](problem, own)
+    if problem.part is None:
+        return text
+    return f"{PART_WORDS[problem.part]}: {text}"
+
+
+# The three confounding questions of natural effects, in plain words.
+PART_WORDS = {
+    "exposure-outcome": "for the exposure-outcome confounding",
+    "exposure-mediator": "for the exposure-mediator confounding",
+    "mediator-outcome": "for the mediator-outcome confounding (given the exposure)",
+}
+
+QUESTION_WORDS = {
+    "total": "the total effect",
+    "controlled-direct": "the controlled direct effect",
+    "natural-direct": "the natural direct effect",
+    "natural-indirect": "the natural indirect effect",
+}
+
+
+def question_text(verdict: Verdict) -> str:
+    """`the natural direct effect of x on y through m, in data restricted on r`."""
+    X = verdict.exposure - verdict.listed_mediators
+    text = (
+        f"{QUESTION_WORDS[verdict.question]} of {backticked(sorted(X))} on "
+        f"{backticked(sorted(verdict.outcome))}"
+    )
+    if verdict.listed_mediators:
+        held = "held fixed" if verdict.question == "controlled-direct" else "as mediator"
+        text += f", with {backticked(sorted(verdict.listed_mediators))} {held}"
+    if verdict.restricted_all:
+        text += f", in data restricted on {backticked(sorted(verdict.restricted_all))}"
+    return text
 
 
 def _exposures(verdict: Verdict) -> str:
@@ -156,7 +191,11 @@ def _adjusted_mediator(p: Problem, v: Verdict) -> str:
     shown = f": it lies on the causal path {spell_path(v.graph, p.path)}" if p.path else ""
     return (
         f"adjusting for `{p.variable}` blocks part of the effect (it is a mediator){shown}; "
-        "remove it from `adjust:` to estimate the total effect"
+        + (
+            "remove it from `adjust:` to estimate the total effect"
+            if v.question == "total"
+            else "remove it from `adjust:`"
+        )
     )
 
 
@@ -199,9 +238,12 @@ def _is_collider_at(graph, path, i: int) -> bool:
 
 
 def _open_biasing_path(p: Problem, v: Verdict) -> str:
+    shown = spell_path(v.graph, p.path) if p.path else "a biasing path"
     head = (
-        f"the path {spell_path(v.graph, p.path)} is open: it carries confounding and nothing "
+        f"the path {shown} is open: it carries confounding and nothing "
         f"on it is adjusted for; adjusting for {_one_of(p.fixable)} would close it"
+        if p.fixable
+        else f"the path {shown} is open: nothing on it can be adjusted for to close it"
     )
     if v.identifiable:
         sets = v.suggestions()
@@ -259,6 +301,107 @@ def _no_causal_path(p: Problem, v: Verdict) -> str:
     )
 
 
+def _selection_bias(p: Problem, v: Verdict) -> str:
+    r = p.variable
+    path = spell_path(v.graph, p.path) if p.path else None
+    if p.source_kind == "mediator":
+        head = (
+            f"the data are restricted on `{r}`, which lies on the causal path {path}: "
+            "within the restricted data part of the effect is held fixed"
+        )
+    elif p.source_kind in ("outcome-descendant", "mediator-descendant"):
+        whose = "the outcome" if p.source_kind == "outcome-descendant" else "the mediator"
+        head = (
+            f"the data are restricted on `{r}`, an effect of {whose} `{p.source}` ({path}): "
+            "who is in the data depends on the result being measured"
+        )
+    elif p.collider is not None and path:
+        where = (
+            f"`{r}` is a common effect of its two neighbours on that path"
+            if p.collider == r
+            else f"`{r}` is an effect of `{p.collider}`, a common effect of its two neighbours "
+            "on that path"
+        )
+        head = (
+            f"restricting the data on `{r}` opens the path {path}: {where}, so the exposure "
+            "and outcome become linked in the selected data (collider stratification)"
+        )
+    elif path:
+        head = f"restricting the data on `{r}` leaves the path {path} open"
+    else:
+        head = f"restricting the data on `{r}` biases the estimate whatever is adjusted"
+    if p.source_kind is not None and p.paths:
+        head += (
+            f"; it also opens the path {spell_path(v.graph, p.paths[0])} "
+            f"through `{p.collider}`, a common effect on that path (collider stratification)"
+        )
+    sel = v.selection
+    tail = []
+    if sel is not None and sel.sets:
+        tail.append(
+            "adjusting for "
+            + " or ".join(format_set(s) for s in sel.sets[:3])
+            + " (with the restriction) repairs it"
+        )
+    if sel is not None and sel.recoverable:
+        tail.append(
+            "the effect in the whole population is still recoverable from these data with "
+            f"{format_set(sel.recovery_set)} when their distribution in the whole population "
+            "is known"
+        )
+    elif sel is not None and not sel.sets:
+        tail.append("the effect is not recoverable from these data alone")
+    if sel is not None and sel.outcome_only:
+        if sel.odds_ratio.survives:
+            adjusted = sel.odds_ratio.adjusted
+            which = (
+                f"the odds ratio adjusted for {format_set(adjusted)}"
+                if adjusted
+                else "the unadjusted odds ratio"
+            )
+            tail.append(
+                f"the restriction depends on the outcome only, so {which} is unbiased "
+                "(as in case-control sampling), while risks and risk differences are not"
+            )
+        else:
+            tail.append(
+                "the odds ratio does not survive either: the exposure affects selection too"
+            )
+    return head + ("; " + "; ".join(tail) if tail else "")
+
+
+def _needs_g_methods(p: Problem, v: Verdict) -> str:
+    seq = v.sequential
+    stages = "; ".join(
+        f"stage {i} ({backticked(st.exposures)}): {format_set(st.covariates)}"
+        for i, st in enumerate(seq.stages, start=1)
+    )
+    fb = seq.feedback[0] if seq.feedback else None
+    why = (
+        f"`{fb.variable}` is affected by the earlier exposure `{fb.earlier}` "
+        f"({spell_path(v.graph, fb.affected_path)}) and confounds the later one `{fb.later}` "
+        "(treatment-confounder feedback), so adjusting for it and leaving it out are both biased"
+        if fb is not None
+        else "no single set of covariates works for all the exposures at once"
+    )
+    return (
+        f"ordinary regression adjustment cannot estimate the joint effect of "
+        f"{backticked(sorted(v.exposure))}: {why}; adjusting stage by stage works, with "
+        f"{stages}; use the g-formula, inverse probability weighting of a marginal structural "
+        "model, or g-estimation"
+    )
+
+
+def _exposure_induced_confounder(p: Problem, v: Verdict) -> str:
+    a, b, c = (spell_path(v.graph, q) for q in p.paths)
+    return (
+        f"`{p.variable}` is affected by the exposure ({a}) and affects both the mediator "
+        f"({b}) and the outcome ({c}): natural direct and indirect effects are not identified "
+        "whatever is adjusted; estimate the controlled direct effect (`effect: "
+        "controlled-direct`) or the interventional direct and indirect effects instead"
+    )
+
+
 _MESSAGES = {
     "adjusted-unmeasured": _adjusted_unmeasured,
     "adjusted-mediator": _adjusted_mediator,
@@ -268,4 +411,7 @@ _MESSAGES = {
     "unmeasured-confounding": _unmeasured_confounding,
     "instrument-adjusted": _instrument_adjusted,
     "no-causal-path": _no_causal_path,
+    "selection-bias": _selection_bias,
+    "needs-g-methods": _needs_g_methods,
+    "exposure-induced-confounder": _exposure_induced_confounder,
 }

@@ -9,9 +9,11 @@ import random
 from clirunner import ROOT, dagward
 from dagward.engine import read_and_lint
 from helpers.oracle import blocked, causal, oracle_minimal_valid_sets, oracle_valid
+from helpers.question_oracles import oracle_sets_given, oracle_valid_for_question
 
 KEYS = ["name", "exposure", "outcome", "declared", "declared_valid", "identifiable",
-        "minimal_sets", "smallest", "truncated", "best_achievable", "front_door", "problems", "notes"]  # fmt: skip
+        "minimal_sets", "smallest", "truncated", "best_achievable", "front_door", "problems", "notes",
+        "question"]  # fmt: skip
 
 
 def _diagram(path):
@@ -28,6 +30,20 @@ def test_adjustment_json_matches_the_oracle_on_every_sample():
         for report, analysis in zip(doc["analyses"], d.analyses, strict=True):
             assert list(report) == KEYS
             X, Y = set(analysis.exposure_set), set(analysis.outcome_set)
+            q = report["question"]
+            assert q["effect"] == analysis.effect
+            if q["effect"] != "total" or q["restricted"]:
+                # the questions beyond the total effect: the declared set against the
+                # question's oracle, and a restriction's sets with it forced in
+                M, R = set(q["mediators"]), set(q["restricted"])
+                if analysis.adjust_set is not None:
+                    assert report["declared_valid"] == oracle_valid_for_question(
+                        G, X, Y, analysis.adjust_set, d.measured, q["effect"], M, R
+                    ), rel
+                if q["effect"] == "total" and not R & Y:
+                    expected = oracle_sets_given(G, X, Y, R, d.measured)
+                    assert {frozenset(s) for s in report["minimal_sets"]} == expected, rel
+                continue
             candidates = sorted(d.measured - X - Y)
             expected = sorted((sorted(s) for s in oracle_minimal_valid_sets(G, X, Y, candidates)),
                               key=lambda s: (len(s), s))  # fmt: skip

@@ -11,8 +11,14 @@ from dagward.engine import read_and_lint
 from expectations import expectations, settings_for
 
 ROOT = Path(__file__).resolve().parent.parent
+# the samples of the questions beyond the total effect carry `# expect:` lines too
+QUESTION_SAMPLES = ("clinic_sample.dag", "walking_group.dag", "reading_support.dag")
 FIXTURES = sorted(
-    [*(ROOT / "tests" / "fixtures").rglob("*.dag"), *(ROOT / "samples" / "broken").glob("*.dag")]
+    [
+        *(ROOT / "tests" / "fixtures").rglob("*.dag"),
+        *(ROOT / "samples" / "broken").glob("*.dag"),
+        *(ROOT / "samples" / name for name in QUESTION_SAMPLES),
+    ]
 )
 
 

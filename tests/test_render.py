@@ -708,3 +708,21 @@ def test_a_font_without_a_glyph_the_picture_needs_is_named(tmp_path):
     plain.write_text('label a "Dose, caf\u00e9"\na -> b\n', encoding="utf-8")
     run = dagward("render", str(plain), "-o", str(out), "--font", "DejaVu Sans")
     assert run.code == 0 and run.err == ""
+
+
+def test_restriction_is_a_trapezium_and_its_path_is_drawn_open():
+    """samples/clinic_sample.dag, analysis clinic_data: the data hold clinic patients
+    only, and restricting on them opens cycling -> knee_strain -> clinic_patient <-
+    back_pain (by hand: clinic_patient is a common effect of knee_strain and
+    back_pain), so those arrows are dotted although nothing adjusted is on them."""
+    text = render_text("samples/clinic_sample.dag", "--analysis", "clinic_data", "--format", "dot")
+    nodes, edges, _ = read_dot(text)
+    assert nodes["clinic_patient"]["shape"] == "trapezium"
+    assert "restricted" in nodes["clinic_patient"]["class"]
+    assert "shape" not in nodes["in_study"] or nodes["in_study"]["shape"] != "trapezium"
+    dotted = {k for k, v in edges.items() if "dotted" in styles(v[0])}
+    assert {("knee_strain", "clinic_patient"), ("back_pain", "clinic_patient")} <= dotted
+    assert "trapezium: the data are restricted on it" in text
+    mmd = render_text("samples/clinic_sample.dag", "--analysis", "clinic_data", "--format", "mmd")
+    assert '[/"Treated at a<br/>physiotherapy clinic<br/>(clinic_patient)"\\]' in mmd
+    assert "trapezium: the data are restricted on it" in mmd

@@ -33,25 +33,52 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 def describe(
     diagram, analysis, given: set[str] | None, limit: int, open_only: bool = False
 ) -> dict:
+    """The paths that matter for the analysis's question: between the exposure (for
+    a controlled direct effect, the exposure and the mediators) and the outcome,
+    judged given the adjustment set and the restriction; for natural effects also
+    the mediator-outcome paths, given the adjustment set and the exposure."""
+    from ..verdict import Verdict
+
+    verdict = Verdict(diagram, analysis)
+    plain = verdict.question == "total" and not verdict.restricted_all
+    adjust = given if given is not None else set(analysis.adjust_set or ())
+    if plain:
+        report = _describe(diagram, analysis.name, analysis.exposure_set, analysis.outcome_set,
+                           adjust, adjust, limit, open_only)  # fmt: skip
+        return report
+    adjust = set(adjust) - verdict.listed_mediators
+    report = _describe(diagram, analysis.name, verdict.exposure, verdict.outcome, adjust,
+                       adjust | verdict.forced, limit, open_only)  # fmt: skip
+    report["question"] = verdict.question
+    report["restricted"] = sorted(verdict.restricted_all)
+    part = verdict.parts.get("mediator-outcome")
+    if part is not None:
+        # only the non-causal mediator-outcome paths: the confounding that matters
+        sub = _describe(diagram, analysis.name, part.exposure, part.outcome, adjust,
+                        adjust | part.forced, limit, open_only)  # fmt: skip
+        report["mediator_outcome_paths"] = [r for r in sub["paths"] if not r["causal"]]
+        report["mediator_outcome_truncated"] = sub["truncated"]
+    return report
+
+
+def _describe(diagram, name, X, Y, adjust, conditioned, limit: int, open_only: bool) -> dict:
     from ..causal import describe_path, is_hidden
     from ..causal.paths import open_paths, simple_paths
     from ..wording import spell_path
 
     g = diagram.graph
-    xs, ys = analysis.exposure_set, analysis.outcome_set
-    adjust = given if given is not None else set(analysis.adjust_set or ())
     # Open paths first, found by a search that only walks open continuations;
     # then, unless only open ones are asked for, the others in listing order.
     paths: list[list[str]] = []
     cut = False
-    for p in open_paths(g, xs, ys, adjust, shortest_first=True):
+    for p in open_paths(g, X, Y, conditioned, shortest_first=True):
         if len(paths) >= limit:
             cut = True
             break
         paths.append(p)
     if not open_only and not cut:
         listed = {tuple(p) for p in paths}
-        for p in simple_paths(g, xs, ys, shortest_first=True):
+        for p in simple_paths(g, X, Y, shortest_first=True):
             if tuple(p) in listed:
                 continue
             if len(paths) >= limit:
@@ -62,7 +89,7 @@ def describe(
             paths.append(p)
     rows = []
     for p in paths:
-        info = describe_path(g, p, xs, adjust)
+        info = describe_path(g, p, X, conditioned)
         rows.append({
             "path": ["<->" if is_hidden(g, n) else n for n in p],
             "text": spell_path(g, p),
@@ -76,7 +103,7 @@ def describe(
     # open paths first (causal ones, then the biasing ones), then the blocked ones
     rows.sort(key=lambda r: (not r["open"], not r["causal"]))
     return {
-        "name": analysis.name,
+        "name": name,
         "adjust": sorted(adjust),
         "paths": rows,
         "truncated": cut,
@@ -88,26 +115,47 @@ def _line(row: dict) -> str:
     kind = "causal    " if row["causal"] else "non-causal"
     if row["open"]:
         state = "open"
-        why = "; ".join(f"collider `{o['collider']}` opened by adjusting for `{o['by']}`"
+        why = "; ".join(f"collider `{o['collider']}` opened by conditioning on `{o['by']}`"
                         for o in row["opened_colliders"])  # fmt: skip
         if not row["causal"]:
             state = "OPEN (biasing)"
     else:
         state = "blocked"
-        why = "; ".join(
-            f"`{b['variable']}` ({'adjusted non-collider' if b['reason'].startswith('non') else 'collider left alone'})"
-            for b in row["blocked_by"]
-        )
+        why = "; ".join(_blocked_reason(b) for b in row["blocked_by"])
     return f"  {kind} {state:<15} {row['text']}" + (f"   [{why}]" if why else "")
+
+
+def _blocked_reason(block: dict) -> str:
+    """Why a path is blocked at a variable, in plain words (the term once)."""
+    v = block["variable"]
+    if block["reason"].startswith("non"):
+        return f"adjusting for `{v}` blocks it"
+    return (
+        f"`{v}` is a common effect of its neighbours on the path (a collider) and neither "
+        "it nor its effects are adjusted for"
+    )
 
 
 def render_text(file: str, reports: list[dict], limit: int) -> str:
     lines = []
     for r in reports:
         adjust = "{" + ", ".join(r["adjust"]) + "}"
-        lines.append(f"{file}: analysis {r['name']}, adjusting for {adjust}:")
+        restricted = (f", in data restricted on {{{', '.join(r['restricted'])}}}"
+                      if r.get("restricted") else "")  # fmt: skip
+        question = f" ({r['question'].replace('-', ' ')} effect)" if "question" in r else ""
+        lines.append(f"{file}: analysis {r['name']}{question}, adjusting for {adjust}{restricted}:")
         lines.extend(_line(row) for row in r["paths"])
         what = "open path" if r.get("open_only") else "path"
+        if "mediator_outcome_paths" in r:
+            # the open ones only: they are the mediator-outcome confounding left
+            rows = r["mediator_outcome_paths"]
+            shown = [row for row in rows if row["open"]]
+            more = len(rows) - len(shown)
+            lines.append("  mediator-outcome confounding paths left open, given the "
+                         f"adjustment set and the exposure ({more} more blocked):")  # fmt: skip
+            lines.extend("  " + _line(row) for row in shown)
+            if not shown:
+                lines.append("    none")
         if not r["paths"]:
             lines.append(f"  no {what} joins the exposure and the outcome")
         if r["truncated"]:
@@ -141,11 +189,10 @@ def run(args: argparse.Namespace) -> int:
 
 def _with_suggestions(unknown: list[str], known) -> str:
     """The unknown names, each with the closest known name when one is close."""
-    import difflib
+    from ..wording import closest_name
 
-    known = sorted(known)
     parts = []
     for name in unknown:
-        close = difflib.get_close_matches(name, known, n=1)
-        parts.append(f"{name} (did you mean {close[0]}?)" if close else name)
+        close = closest_name(name, sorted(known))
+        parts.append(f"{name} (did you mean {close}?)" if close else name)
     return ", ".join(parts)

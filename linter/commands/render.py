@@ -20,8 +20,9 @@ from ..errors import UsageProblem
 from .common import load_clean, settings_from
 
 HELP = (
-    "Draw a diagram: roles by shape and outline, adjusted variables shaded, causal paths "
-    "thick, open non-causal paths dotted, periods as columns from left to right. "
+    "Draw a diagram: roles by shape and outline, adjusted variables shaded, restricted "
+    "ones as trapezia, causal paths thick, open non-causal paths dotted, periods as "
+    "columns from left to right. "
     "Writes .dot and .mmd (Mermaid) itself; .svg, .png, .pdf and .eps need Graphviz's `dot`."
 )
 FORMATS = ("auto", "dot", "mmd", "svg", "png", "pdf", "eps")

@@ -57,7 +57,9 @@ JSON shape (`--format json`; header from :mod:`dagward.report.json_report`)::
              "notes": [...],                             # Verdict.notes (not reasons)
              "minimal_sets": [["age", "fitness_base"]], "truncated": false,
              "smallest": [...] | null, "best_achievable": [...] | null,
-             "front_door": [...] | null}    # looked for only when no valid set exists
+             "front_door": [...] | null,    # looked for only when no valid set exists
+             "question": {"effect": "total" | "controlled-direct" | "natural-direct"
+                          | "natural-indirect", "mediators": [...], "restricted": [...]}}
 
 Names inside a set are sorted; sets are sorted by size, then by name.
 """
@@ -103,7 +105,8 @@ _OPEN_PATH_RULES = frozenset({"collider-adjusted", "open-biasing-path", "unmeasu
 
 
 def reason_label(r: Reason) -> str:
-    return r.rule + (f" for `{r.variable}`" if r.variable else "")
+    text = r.rule + (f" for `{r.variable}`" if r.variable else "")
+    return text + (f" ({r.part} confounding)" if r.part else "")
 
 
 def _labels(reasons: tuple[Reason, ...]) -> str:
@@ -166,7 +169,9 @@ def remark_text(m: Remark, a: AnalysisDiff, f: FileDiff) -> str:
         return f"the declared set changed from {format_set(old_set)} to {format_set(new_set)}"
     if k == "role-changed":
         old_names, new_names = cast(Names, m.before or ()), cast(Names, m.after or ())
-        return f"the {m.role} changed from {backticked(old_names)} to {backticked(new_names)}"
+        old_text = backticked(old_names) or "none"
+        new_text = backticked(new_names) or "none"
+        return f"the {m.role} changed from {old_text} to {new_text}"
     if k == "unchecked":
         return f"the analysis can no longer be checked ({n.note})"
     if k == "checked-again":
@@ -498,6 +503,11 @@ def state_dict(s: AnalysisState | None) -> dict | None:
         "smallest": _names(s.smallest),
         "best_achievable": _names(s.best_achievable),
         "front_door": _names(s.front_door),
+        "question": {
+            "effect": s.question,
+            "mediators": list(s.mediators),
+            "restricted": list(s.restricted),
+        },
     }
 
 

@@ -12,13 +12,16 @@ from . import (  # data rules (with --data)
     cycle,
     duplicate_analysis,
     duplicate_arrow,
+    exposure_induced_confounder,
     independence_rejected,
     instrument_adjusted,
     isolated_variable,
     missing_column,
+    needs_g_methods,
     no_causal_path,
     open_biasing_path,
     role_conflict,
+    selection_bias,
     self_loop,
     syntax_error,
     unknown_rule_in_allow,
@@ -49,6 +52,9 @@ CAUSAL_RULES: tuple[Rule, ...] = (
     collider_adjusted.RULE,
     open_biasing_path.RULE,
     unmeasured_confounding.RULE,
+    selection_bias.RULE,
+    exposure_induced_confounder.RULE,
+    needs_g_methods.RULE,
     instrument_adjusted.RULE,
     no_causal_path.RULE,
 )
@@ -64,6 +70,9 @@ VALIDITY_RULES: frozenset[str] = frozenset(
         "collider-adjusted",
         "open-biasing-path",
         "unmeasured-confounding",
+        "selection-bias",
+        "exposure-induced-confounder",
+        "needs-g-methods",
     }
 )
 

@@ -91,20 +91,42 @@ def per_adjusted_variable(ctx: Context, rule: Rule) -> Iterator[Finding]:
     for analysis, verdict in analyses_with_verdicts(ctx):
         if analysis.adjust is None:
             continue
-        problems = {p.variable: p for p in verdict.problems_of(rule.name)}
+        problems: dict[str | None, list[Problem]] = {}
+        for p in verdict.problems_of(rule.name):
+            problems.setdefault(p.variable, []).append(p)
         if not problems:
             continue
         for n in adjusted_names(analysis):
-            problem = problems.get(n.text)
-            if problem is not None:
+            for problem in problems.get(n.text, ()):
                 yield problem_finding(ctx, rule, n.span, analysis, verdict, problem)
+
+
+def per_listed_name(
+    ctx: Context, rule: Rule, key: str, attribute: str = "variable"
+) -> Iterator[Finding]:
+    """One finding per problem under `rule`, at the name in the analysis key `key`
+    (`restricted:`, `mediator:`) that the problem's `attribute` names; at the
+    key's first name, or the header, when that name is not listed."""
+    for analysis, verdict in analyses_with_verdicts(ctx):
+        found = verdict.problems_of(rule.name)
+        if not found:
+            continue
+        names = analysis.restricted if key == "restricted" else analysis.mediator
+        for problem in found:
+            target = getattr(problem, attribute)
+            span = next((n.span for n in names if n.text == target), None)
+            if span is None:
+                span = names[0].span if names else analysis.header
+            yield problem_finding(ctx, rule, span, analysis, verdict, problem)
 
 
 def per_analysis(ctx: Context, rule: Rule, span_of=lambda a: a.header) -> Iterator[Finding]:
     """One finding per problem of the analysis as a whole, at `span_of(analysis)`."""
     for analysis, verdict in analyses_with_verdicts(ctx):
         for problem in verdict.problems_of(rule.name):
-            sets = verdict.suggestions() if problem.rule == "open-biasing-path" else None
+            own = verdict.verdict_of(problem)
+            sets = own.suggestions() if problem.rule == "open-biasing-path" else None
             yield problem_finding(
-                ctx, rule, span_of(analysis), analysis, verdict, problem, suggested_sets=sets or None
+                ctx, rule, span_of(analysis), analysis, verdict, problem,
+                suggested_sets=sets or None,
             )

@@ -6,7 +6,10 @@ import networkx as nx
 from dagward.causal import is_hidden
 
 
-def to_dag_text(G: nx.DiGraph, names, measured, X, Y, Z) -> str:
+def to_dag_text(
+    G: nx.DiGraph, names, measured, X, Y, Z, effect=None, mediator=(), restricted=()
+) -> str:
+    """The case as `.dag` text; `effect`, `mediator` and `restricted` add those keys."""
     # one period holding every variable declares the ones without arrows too
     lines = ["period all: " + ", ".join(names)]
     unmeasured = sorted(set(names) - set(measured))
@@ -23,6 +26,12 @@ def to_dag_text(G: nx.DiGraph, names, measured, X, Y, Z) -> str:
         "  exposure: " + ", ".join(sorted(X)),
         "  outcome: " + ", ".join(sorted(Y)),
         "  adjust: " + (", ".join(sorted(Z)) if Z else "none"),
-        "}",
     ]
+    if effect is not None:
+        lines.append(f"  effect: {effect}")
+    if mediator:
+        lines.append("  mediator: " + ", ".join(sorted(mediator)))
+    if restricted:
+        lines.append("  restricted: " + ", ".join(sorted(restricted)))
+    lines.append("}")
     return "\n".join(lines) + "\n"

@@ -158,3 +158,27 @@ def oracle_single_set(G, X, Y, measured) -> bool:
 
 def oracle_forbidden_joint(G, X, Y):
     return oracle_forbidden(G, X, Y)
+
+
+# ---------------------------------------------------------------- the questions
+
+
+def oracle_valid_for_question(G, X, Y, Z, measured, effect="total", M=(), R=()) -> bool:
+    """Z valid for the question asked (tests/test_questions_completeness.py says
+    what that means for each effect and for a restriction)."""
+    X, Y = set(X), set(Y)
+    C = set(Z) - set(M) - set(R)
+    if not C <= set(measured):
+        return False
+    if effect == "total":
+        return oracle_valid(G, X, Y, C | (set(R) - X - Y))
+    if effect == "controlled-direct":
+        J = X | set(M)
+        return oracle_valid(G, J, Y, C | (set(R) - J - Y))
+    M = set(M)
+    return (
+        oracle_valid(G, X, Y, C | (set(R) - X - Y))
+        and oracle_valid(G, X, M, C | (set(R) - X - M))
+        and oracle_valid(G, M, Y, C | X | (set(R) - M - Y))
+        and not oracle_induced(G, X, M, Y)
+    )
