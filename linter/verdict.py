@@ -81,6 +81,8 @@ from .causal.questions import (
 from .model import Analysis, Diagram
 from .rules import CAUSAL_RULES, VALIDITY_RULES
 
+# Above this many measured variables the (quadratic) instrument search is skipped.
+INSTRUMENT_SEARCH_LIMIT = 2000
 # How many minimal sets to look at when suggesting the ones closest to the declared
 # set: each costs a linear pass, so fewer on very large diagrams.
 SUGGESTION_POOL = 20
@@ -294,6 +296,43 @@ class Verdict:
         canonical = (set(canonical) | self.forced) - self.forbidden
         path = open_noncausal_path(self.graph, self.exposure, self.outcome, canonical)
         return None if path is None else tuple(path)
+
+    @cached_property
+    def identification(self):
+        """How the total effect is identified from the measured variables at all
+        (`dagward.causal.identify_effect`: the identification algorithm of Tian &
+        Pearl 2002 and Shpitser & Pearl 2006, complete), or None when it is not
+        asked: another question, a restriction, or an unmeasured exposure or
+        outcome. Computed only when no valid adjustment set exists (when one does,
+        the route is adjustment)."""
+        if self.question != "total" or self.forced or self.identifiable:
+            return None
+        from .causal import identify_effect
+
+        try:
+            return identify_effect(self.graph, self.exposure, self.outcome, self.measured)
+        except ValueError:
+            return None
+
+    @cached_property
+    def route(self) -> str | None:
+        """'adjustment', 'front-door', 'general' or 'not-identified' (None: not asked)."""
+        if self.question == "total" and not self.forced and self.identifiable:
+            return "adjustment"
+        ident = self.identification
+        return None if ident is None else ident.route
+
+    @cached_property
+    def instruments(self) -> tuple:
+        """Instruments and conditional instruments of each exposure (van der Zander,
+        Textor & Liskiewicz 2015), for the total effect when no valid set exists;
+        the search grows with the square of the diagram, so it is skipped above
+        INSTRUMENT_SEARCH_LIMIT measured variables (empty then)."""
+        if self.identification is None or len(self.measured) > INSTRUMENT_SEARCH_LIMIT:
+            return ()
+        from .causal import instruments
+
+        return tuple(instruments(self.graph, self.exposure, self.outcome, self.measured))
 
     @cached_property
     def front_door(self) -> tuple[str, ...] | None:
@@ -665,6 +704,7 @@ class Verdict:
             if self.best_achievable is None
             else list(self.best_achievable),
             "front_door": None if self.front_door is None else list(self.front_door),
+            "route": self.route,
             "problems": [p.to_dict(self.graph) for p in self.problems],
             "notes": [p.to_dict(self.graph) for p in self.notes],
             "question": self.question_dict(),

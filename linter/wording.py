@@ -271,12 +271,32 @@ def _unmeasured_confounding(p: Problem, v: Verdict) -> str:
         best_text = f"; the best that adjustment can do is {format_set(best)}"
     else:
         best_text = "; adjusting for measured variables cannot close it"
-    door = (
-        f"; the front-door criterion holds for {format_set(v.front_door)}, so the effect is "
-        "still identified through it (see `dagward identify`)"
-        if v.front_door
-        else ""
-    )
+    route = v.route
+    if route == "front-door" or (route is None and v.front_door):
+        door = (
+            f"; the front-door criterion holds for {format_set(v.front_door)}, so the effect "
+            "is still identified through it (see `dagward identify`)"
+        )
+    elif route == "general":
+        door = (
+            "; the effect is still identified from the measured variables, by a formula "
+            "other than adjustment (see `dagward identify`)"
+        )
+    elif route == "not-identified":
+        door = (
+            "; the effect is not identified from the measured variables by any formula "
+            "(`dagward identify` shows what prevents it)"
+        )
+    else:
+        door = ""
+    found = v.instruments
+    if found:
+        shown = ", ".join(
+            f"`{i.variable}`" + (f" given {backticked(sorted(i.given))}" if i.given else "")
+            for i in found[:3]
+        )
+        more = f" and {len(found) - 3} more" if len(found) > 3 else ""
+        door += f"; instruments for the exposure: {shown}{more}"
     return (
         f"no set of measured variables can block every biasing path from {xs} to {ys}"
         f"{shown}{best_text}{door}; measure a variable on that path, choose another design, "

@@ -180,3 +180,55 @@ def test_the_linear_search_for_large_diagrams_is_sound(case):
     ]
     if path is not None:  # (its miss rate is measured by tests/bench_verdict.py)
         assert path in confounding and set(path[1:-1]) & fixable
+
+
+# unmeasured-confounding says whether the effect is identified another way
+# (issue: the identification algorithm is complete, so "not identified" is a proof).
+# Structures from memory: the bow arc and the instrument (Pearl 2009, Causality,
+# ch. 3); the front-door graph (Pearl 1995, Biometrika 82:669-688); the napkin
+# graph (Pearl & Mackenzie 2018; Shpitser & Pearl 2006).
+ROUTES = {
+    "bow": ("x -> y\nx <-> y\n", "not-identified", "not identified from the measured"),
+    "front-door": (
+        "unmeasured u\nu -> x, y\nx -> m -> y\n",
+        "front-door",
+        "the front-door criterion holds for {m}",
+    ),
+    "napkin": (
+        "w1 -> z -> x -> y\nw1 <-> x\nw1 <-> y\n",
+        "general",
+        "by a formula other than adjustment",
+    ),
+}
+
+
+def _analysis_text(arrows: str) -> str:
+    return arrows + "analysis {\n  exposure: x\n  outcome: y\n}\n"
+
+
+def test_unmeasured_confounding_says_how_the_effect_is_still_identified():
+    for name, (arrows, route, words) in ROUTES.items():
+        text = _analysis_text(arrows)
+        diagram, problem = parse_source(text, f"{name}.dag")
+        assert problem is None
+        verdict = Verdict(diagram, diagram.analyses[0])
+        assert verdict.route == route, name
+        assert verdict.to_dict()["route"] == route
+        (finding,) = [
+            f for f in lint_source(text, f"{name}.dag").findings if f.rule == "unmeasured-confounding"
+        ]
+        assert words in finding.message, (name, finding.message)
+
+
+def test_unmeasured_confounding_names_the_instruments():
+    text = _analysis_text("z -> x -> y\nx <-> y\n")
+    (finding,) = [f for f in lint_source(text, "iv.dag").findings if f.rule == "unmeasured-confounding"]
+    assert "instruments for the exposure: `z`" in finding.message
+    assert "not identified" in finding.message
+
+
+def test_the_route_is_adjustment_whenever_a_valid_set_exists():
+    text = _analysis_text("c -> x, y\nx -> y\n")
+    diagram, _ = parse_source(text, "c.dag")
+    verdict = Verdict(diagram, diagram.analyses[0])
+    assert verdict.route == "adjustment" and verdict.identification is None

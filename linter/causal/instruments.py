@@ -101,7 +101,7 @@ def instrument_given(
         got = cache["graphs"].get(gkey)
         if got is None:
             nbrs, vertices = _moral_ids(ix, gkey, cut)
-            removable = bytearray(ix.n)
+            removable = bytearray(len(nbrs))  # family hubs (past n) are never removable
             allowed = cache["allowed"]
             for v in vertices:
                 removable[v] = allowed[v]

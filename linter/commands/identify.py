@@ -21,7 +21,7 @@ FORMATS = ("text", "json", "latex")
 # The instrument search tests each measured variable with a few linear-time
 # searches, so its time grows with the square of the diagram's size (about 1-4 s
 # at 1,000 variables on the development machine: tests/bench_identify.py).
-INSTRUMENT_SEARCH_LIMIT = 2000
+from ..verdict import INSTRUMENT_SEARCH_LIMIT  # noqa: E402  (one limit for every command)
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
