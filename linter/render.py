@@ -18,6 +18,7 @@ who do not tell colours apart -- only one shade of grey is used):
 | `a <-> b` (hidden common cause) | dashed line with a head at both ends; no node |
 | `a <-> b` on an open non-causal path | dotted line with a head at both ends |
 | arrow new or reversed in a `diff` picture (Mermaid) | thick orange line (the one colour) |
+| variable or `a <-> b` in the structure that prevents identification (`identify`'s hedge) | dark red outline or line |
 | label | the `label` text, wrapped, with the variable's name in small type beneath |
 | periods | columns left to right in file order, thin solid grey bands headed by name |
 
@@ -62,6 +63,8 @@ ADJUSTED_FILL = "#d4d4d4"
 BAND_COLOR = "#8c8c8c"  # period bands: thin, solid, mid grey (unmeasured is dashed black)
 DEFAULT_FONT = "Helvetica"
 DEFAULT_DPI = 144  # sharp enough for slides and reviews; journals often ask for 300-600
+# what prevents identification (`identify`'s hedge): one dark red, never used otherwise
+HEDGE_COLOR = "#a61e4d"
 HIGHLIGHT = "#e8590c"  # the one colour: arrows a caller marks (`diff`: changed arrows)
 
 INSTALL_GRAPHVIZ = (
@@ -95,10 +98,11 @@ class NodeStyle:
     unmeasured: bool = False
     adjusted: bool = False
     restricted: bool = False
+    hedge: bool = False  # in the structure that prevents identification (`identify`)
 
     @property
     def classes(self) -> tuple[str, ...]:
-        kinds = ("exposure", "outcome", "unmeasured", "adjusted", "restricted")
+        kinds = ("exposure", "outcome", "unmeasured", "adjusted", "restricted", "hedge")
         return tuple(k for k in kinds if getattr(self, k))
 
 
@@ -110,10 +114,13 @@ class EdgeStyle:
     causal: bool = False  # on a proper causal path from the exposure to the outcome
     open_noncausal: bool = False  # on a proper non-causal path open given `adjust:`
     highlighted: bool = False  # marked by the caller (`diff`: new or reversed arrows)
+    hedge: bool = False  # a `<->` of the structure that prevents identification
 
     @property
     def classes(self) -> tuple[str, ...]:
         out = ["bidirected" if self.bidirected else "arrow"]
+        if self.hedge:
+            out.append("hedge")
         if self.causal:
             out.append("causal")
         if self.open_noncausal:
@@ -194,6 +201,7 @@ def picture(
             for i in range(1, len(path) - 1):
                 if _hidden(diagram, path[i]):
                     open_bidirected.add(frozenset((path[i - 1], path[i + 1])))
+    hedge_nodes, hedge_arcs = _hedge(diagram, analysis)
     labels = diagram.labels
     nodes = tuple(
         NodeStyle(
@@ -204,6 +212,7 @@ def picture(
             unmeasured=v in diagram.unmeasured,
             adjusted=v in Z,
             restricted=v in R,
+            hedge=v in hedge_nodes,
         )
         for v in diagram.variables
     )
@@ -223,6 +232,7 @@ def picture(
                     bidirected=True,
                     open_noncausal=frozenset((a, b)) in open_bidirected,
                     highlighted=arrow.key in highlight,
+                    hedge=frozenset((a, b)) in hedge_arcs,
                 )
             )
         else:
@@ -252,6 +262,23 @@ def picture(
         open_paths=tuple(open_paths),
         paths_complete=complete,
     )
+
+
+def _hedge(diagram: Diagram, analysis: Analysis | None):
+    """The variables and `<->` pairs of the structure that prevents identification
+    (the hedge of the identification algorithm), read from the verdict; empty when
+    the effect is identified or no analysis is drawn."""
+    if analysis is None or not analysis.exposure_set or not analysis.outcome_set:
+        return frozenset(), frozenset()
+    from .verdict import Verdict
+
+    verdict = Verdict(diagram, analysis)
+    if verdict.route != "not-identified" or verdict.identification.hedge is None:
+        return frozenset(), frozenset()
+    hedge = verdict.identification.hedge
+    nodes = frozenset(hedge.outer) | frozenset(hedge.unmeasured)
+    arcs = frozenset(frozenset(pair) for pair in hedge.arcs)
+    return nodes, arcs
 
 
 def _hidden(diagram: Diagram, node: str) -> bool:
@@ -338,6 +365,8 @@ def _dot_node(node: NodeStyle) -> str:
         style.append("filled")
         attrs.append(f'fillcolor="{ADJUSTED_FILL}"')
     attrs.append(f'style="{",".join(style)}"')
+    if node.hedge:
+        attrs += [f'color="{HEDGE_COLOR}"', "penwidth=2.5"]
     if node.classes:
         attrs.append(f'class="{" ".join(node.classes)}"')
     return f"  {_dot_id(node.name)} [{', '.join(attrs)}];"
@@ -355,6 +384,8 @@ def _dot_edge(edge: EdgeStyle) -> str:
             attrs.append('style="dotted"')
         attrs.append("penwidth=3.2" if edge.causal else "penwidth=2" if edge.open_noncausal
                      else "penwidth=1.1")  # fmt: skip
+    if edge.hedge:
+        attrs.append(f'color="{HEDGE_COLOR}"')
     attrs.append(f'class="{" ".join(edge.classes)}"')
     return f"  {_dot_id(edge.source)} -> {_dot_id(edge.target)} [{', '.join(attrs)}];"
 
@@ -384,6 +415,8 @@ def key_items(pic: Picture) -> tuple[list[str], list[str]]:
         roles.append("trapezium: the data are restricted on it")
     if any(n.unmeasured for n in pic.nodes):
         roles.append("dashed outline: unmeasured")
+    if any(n.hedge for n in pic.nodes):
+        roles.append("dark red outline: what prevents identifying the effect (a hedge)")
     lines_key = []
     if any(e.causal for e in pic.edges):
         lines_key.append("thick: causal path")
@@ -394,6 +427,8 @@ def key_items(pic: Picture) -> tuple[list[str], list[str]]:
         lines_key.append("dashed, two heads: hidden common cause")
     if any(e.bidirected and e.open_noncausal for e in pic.edges):
         lines_key.append("dotted, two heads: hidden common cause on an open non-causal path")
+    if any(e.hedge for e in pic.edges):
+        lines_key.append("dark red, two heads: a hidden common cause in that structure")
     return roles, lines_key
 
 
@@ -525,7 +560,10 @@ def to_mermaid(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
                 )
                 continue
             width = "2px" if edge.open_noncausal else "1.5px"
-            styles.append(f"  linkStyle {index} stroke-dasharray:{dash},stroke-width:{width}")
+            colour = f"stroke:{HEDGE_COLOR}," if edge.hedge else ""
+            styles.append(
+                f"  linkStyle {index} {colour}stroke-dasharray:{dash},stroke-width:{width}"
+            )
         elif edge.open_noncausal:
             out.append(f"  {a} -.-> {b}")
             width = "4px" if edge.causal else "2px"
@@ -548,7 +586,9 @@ def to_mermaid(pic: Picture, options: RenderOptions = RenderOptions()) -> str:
     out.append("  classDef outcome stroke-width:3px")
     out.append("  classDef unmeasured stroke-dasharray:6 4")
     out.append(f"  classDef adjusted fill:{ADJUSTED_FILL}")
-    for kind in ("exposure", "outcome", "unmeasured", "adjusted"):
+    if any(n.hedge for n in pic.nodes):
+        out.append(f"  classDef hedge stroke:{HEDGE_COLOR},stroke-width:3px")
+    for kind in ("exposure", "outcome", "unmeasured", "adjusted", "hedge"):
         members = [ids[n.name] for n in pic.nodes if getattr(n, kind)]
         if members:
             out.append(f"  class {','.join(members)} {kind}")

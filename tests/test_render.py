@@ -726,3 +726,24 @@ def test_restriction_is_a_trapezium_and_its_path_is_drawn_open():
     mmd = render_text("samples/clinic_sample.dag", "--analysis", "clinic_data", "--format", "mmd")
     assert '[/"Treated at a<br/>physiotherapy clinic<br/>(clinic_patient)"\\]' in mmd
     assert "trapezium: the data are restricted on it" in mmd
+
+
+def test_the_structure_that_prevents_identification_is_drawn_and_keyed(tmp_path):
+    """The bow arc (x -> y with x <-> y) is not identified (Pearl 2009, Causality,
+    ch. 3, from memory): its hedge is drawn in its own colour, named in the key;
+    with the confounding measured instead, nothing is marked."""
+    from dagward.render import HEDGE_COLOR, picture, to_dot, to_mermaid
+
+    def pic(text):
+        diagram, _ = parse_source(text.encode(), "bow.dag")
+        return picture(diagram, diagram.analyses[0])
+
+    block = "analysis {\n  exposure: x\n  outcome: y\n}\n"
+    bow = pic("z -> x -> y\nx <-> y\n" + block)
+    assert {n.name for n in bow.nodes if n.hedge} == {"x", "y"}
+    assert [(e.source, e.target) for e in bow.edges if e.hedge] == [("x", "y")]
+    dot = to_dot(bow)
+    assert f'color="{HEDGE_COLOR}"' in dot and "a hedge" in dot
+    assert f"classDef hedge stroke:{HEDGE_COLOR}" in to_mermaid(bow)
+    measured = pic("z -> x -> y\nc -> x, y\n" + block)
+    assert not any(n.hedge for n in measured.nodes) and "hedge" not in to_dot(measured)
