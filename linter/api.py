@@ -5,9 +5,8 @@ from __future__ import annotations
 import os
 from collections.abc import Iterable
 from dataclasses import dataclass, replace
-from typing import TYPE_CHECKING
-
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from .config import Settings, load_settings
 from .engine import lint_diagram, lint_source
@@ -40,9 +39,7 @@ class CheckedDiagram:
     def analyses(self) -> list[str]:
         return [a.name for a in self.diagram.analyses]
 
-    def d_separated(
-        self, xs: Iterable[str], ys: Iterable[str], given: Iterable[str] = ()
-    ) -> bool:
+    def d_separated(self, xs: Iterable[str], ys: Iterable[str], given: Iterable[str] = ()) -> bool:
         """True when every path between `xs` and `ys` is blocked by `given` (d-separation)."""
         from .causal import d_separated
 

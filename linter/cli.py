@@ -33,7 +33,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "dagward.commands.covariates",
         "check the covariates of a model formula or list against an analysis",
     ),
-    "explain": ("dagward.commands.explain", "a rule's documentation, with a bad and a good example"),
+    "explain": (
+        "dagward.commands.explain",
+        "a rule's documentation, with a bad and a good example",
+    ),
     "language-server": ("dagward.commands.language_server", "LSP server over stdio for editors"),
 }
 

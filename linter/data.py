@@ -101,12 +101,26 @@ def add_reading_arguments(p) -> None:
     """`--sep`, `--decimal`, `--categorical`, `--numeric` (shared by the commands)."""
     p.add_argument("--sep", metavar="CHAR", help="field separator of the data file: `,` `;` "
                    "`tab` or `|` (default: detected)")  # fmt: skip
-    p.add_argument("--decimal", metavar="CHAR", choices=(".", ","),
-                   help="decimal mark of the data file, `.` or `,` (default: detected)")
-    p.add_argument("--categorical", metavar="COLUMNS", action="append", default=[],
-                   help="read these columns (comma-separated) as categories")
-    p.add_argument("--numeric", metavar="COLUMNS", action="append", default=[],
-                   help="read these columns (comma-separated) as numbers; text cells are missing")
+    p.add_argument(
+        "--decimal",
+        metavar="CHAR",
+        choices=(".", ","),
+        help="decimal mark of the data file, `.` or `,` (default: detected)",
+    )
+    p.add_argument(
+        "--categorical",
+        metavar="COLUMNS",
+        action="append",
+        default=[],
+        help="read these columns (comma-separated) as categories",
+    )
+    p.add_argument(
+        "--numeric",
+        metavar="COLUMNS",
+        action="append",
+        default=[],
+        help="read these columns (comma-separated) as numbers; text cells are missing",
+    )
 
 
 def reading_options(args, settings=None) -> ReadOptions:
@@ -122,7 +136,7 @@ def reading_options(args, settings=None) -> ReadOptions:
     sep = getattr(args, "sep", None) or base.get("sep")
     if sep is not None:
         sep = _SEP_WORDS.get(sep, sep)
-        if len(sep) != 1 or sep in "\"\n\r" or sep.isalnum():
+        if len(sep) != 1 or sep in '"\n\r' or sep.isalnum():
             raise UsageProblem(f"--sep must be one character such as `,` `;` `tab` or `|`, "
                                f"not {sep!r}")  # fmt: skip
     decimal = getattr(args, "decimal", None) or base.get("decimal")

@@ -94,8 +94,9 @@ def _truncate(text: str, width: float) -> str:
     return text if len(text) <= limit else text[: limit - 3] + "..."
 
 
-def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
-                    min_effect: float | None = None) -> str:
+def forest_plot_svg(
+    results: Sequence[TestResult], title: str = "", *, min_effect: float | None = None
+) -> str:
     """Return the SVG text of a forest plot of ``results``.
 
     Each test is a ``<g class="test-row">`` element holding its label text, so
@@ -106,8 +107,9 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
               for r in results]  # fmt: skip
     # The label column grows with the longest claim (up to twice the default), so
     # what is held fixed is seldom cut.
-    label_width = max(LABEL_WIDTH, min(2 * LABEL_WIDTH,
-                                       round(max(map(len, labels), default=0) * CHAR_WIDTH) + 16))
+    label_width = max(
+        LABEL_WIDTH, min(2 * LABEL_WIDTH, round(max(map(len, labels), default=0) * CHAR_WIDTH) + 16)
+    )
     width = MARGIN * 2 + label_width + PLOT_WIDTH + TEXT_WIDTH
     height = HEADER + ROW_HEIGHT * max(len(results), 1) + FOOTER
     plot_left = MARGIN + label_width
@@ -126,53 +128,74 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
         f'<rect x="0" y="0" width="{width}" height="{height}" fill="white"/>',
     ]
     if title:
-        out.append(f'<text x="{MARGIN}" y="20" font-size="15" font-weight="bold">'
-                   f"{escape(title)}</text>")
-    out.append(f'<text x="{MARGIN}" y="{HEADER - 8}" font-weight="bold">'
-               "implied independence (pair, what is held fixed)</text>")
-    out.append(f'<text x="{plot_left + PLOT_WIDTH / 2}" y="{HEADER - 8}" font-weight="bold" '
-               f'text-anchor="middle">effect (95% interval)</text>')
+        out.append(
+            f'<text x="{MARGIN}" y="20" font-size="15" font-weight="bold">{escape(title)}</text>'
+        )
+    out.append(
+        f'<text x="{MARGIN}" y="{HEADER - 8}" font-weight="bold">'
+        "implied independence (pair, what is held fixed)</text>"
+    )
+    out.append(
+        f'<text x="{plot_left + PLOT_WIDTH / 2}" y="{HEADER - 8}" font-weight="bold" '
+        f'text-anchor="middle">effect (95% interval)</text>'
+    )
     figures_left = plot_left + PLOT_WIDTH + 8
     for heading, offset, anchor in COLUMNS:
-        out.append(f'<text x="{figures_left + offset}" y="{HEADER - 8}" font-weight="bold" '
-                   f'text-anchor="{anchor}">{heading}</text>')
+        out.append(
+            f'<text x="{figures_left + offset}" y="{HEADER - 8}" font-weight="bold" '
+            f'text-anchor="{anchor}">{heading}</text>'
+        )
 
     # Zebra stripes make long tables readable in grey scale.
     for index in range(len(results)):
         if index % 2:
-            out.append(f'<rect x="{MARGIN}" y="{top + index * ROW_HEIGHT}" '
-                       f'width="{width - 2 * MARGIN}" height="{ROW_HEIGHT}" fill="#eeeeee"/>')
+            out.append(
+                f'<rect x="{MARGIN}" y="{top + index * ROW_HEIGHT}" '
+                f'width="{width - 2 * MARGIN}" height="{ROW_HEIGHT}" fill="#eeeeee"/>'
+            )
 
-    out.append(f'<line x1="{xpos(0.0)}" y1="{top}" x2="{xpos(0.0)}" y2="{bottom}" '
-               'stroke="black" stroke-width="1"/>')
+    out.append(
+        f'<line x1="{xpos(0.0)}" y1="{top}" x2="{xpos(0.0)}" y2="{bottom}" '
+        'stroke="black" stroke-width="1"/>'
+    )
     if min_effect:
         for guide in (-min_effect, min_effect):
             if low <= guide <= high:
-                out.append(f'<line x1="{xpos(guide)}" y1="{top}" x2="{xpos(guide)}" '
-                           f'y2="{bottom}" stroke="black" stroke-width="0.8" '
-                           'stroke-dasharray="4 3"/>')
+                out.append(
+                    f'<line x1="{xpos(guide)}" y1="{top}" x2="{xpos(guide)}" '
+                    f'y2="{bottom}" stroke="black" stroke-width="0.8" '
+                    'stroke-dasharray="4 3"/>'
+                )
 
     for index, result in enumerate(results):
         y = top + index * ROW_HEIGHT + ROW_HEIGHT / 2
         label = labels[index]
         out.append(f'<g class="test-row" data-label={quoteattr(label)}>')
-        out.append(f'<text x="{MARGIN + 4}" y="{y + 4}">'
-                   f"{escape(_truncate(label, label_width - 12))}</text>")
+        out.append(
+            f'<text x="{MARGIN + 4}" y="{y + 4}">'
+            f"{escape(_truncate(label, label_width - 12))}</text>"
+        )
         effect = result.effect
         cells: list[str] = []
         if result.tested and effect is not None and not math.isnan(effect):
             if result.ci_low is not None and result.ci_high is not None:
-                out.append(f'<line x1="{xpos(result.ci_low)}" y1="{y}" x2="{xpos(result.ci_high)}"'
-                           f' y2="{y}" stroke="black" stroke-width="1.5"/>')
+                out.append(
+                    f'<line x1="{xpos(result.ci_low)}" y1="{y}" x2="{xpos(result.ci_high)}"'
+                    f' y2="{y}" stroke="black" stroke-width="1.5"/>'
+                )
             cx = xpos(effect)
             if result.rejected:
                 out.append(f'<rect x="{cx - 5}" y="{y - 5}" width="10" height="10" fill="black"/>')
             elif result.ci_low is None:
-                out.append(f'<path d="M {cx} {y - 6} L {cx + 6} {y} L {cx} {y + 6} '
-                           f'L {cx - 6} {y} Z" fill="white" stroke="black" stroke-width="1.5"/>')
+                out.append(
+                    f'<path d="M {cx} {y - 6} L {cx + 6} {y} L {cx} {y + 6} '
+                    f'L {cx - 6} {y} Z" fill="white" stroke="black" stroke-width="1.5"/>'
+                )
             else:
-                out.append(f'<circle cx="{cx}" cy="{y}" r="4.5" fill="white" stroke="black" '
-                           'stroke-width="1.5"/>')
+                out.append(
+                    f'<circle cx="{cx}" cy="{y}" r="4.5" fill="white" stroke="black" '
+                    'stroke-width="1.5"/>'
+                )
             if result.ci_low is not None:
                 cells = [_fmt(effect), f"[{_fmt(result.ci_low)}, {_fmt(result.ci_high)}]"]
             else:
@@ -180,35 +203,49 @@ def forest_plot_svg(results: Sequence[TestResult], title: str = "", *,
             cells += [str(result.n), _fmt_p(result.p_adjusted),
                       "rejected" if result.rejected else "not rejected"]  # fmt: skip
             for text, (_, offset, anchor) in zip(cells, COLUMNS, strict=True):
-                out.append(f'<text class="figure" x="{figures_left + offset}" y="{y + 4}" '
-                           f'text-anchor="{anchor}">{escape(text)}</text>')
+                out.append(
+                    f'<text class="figure" x="{figures_left + offset}" y="{y + 4}" '
+                    f'text-anchor="{anchor}">{escape(text)}</text>'
+                )
         else:
             figures = "not tested: " + (result.note or "no result")
-            out.append(f'<text x="{figures_left}" y="{y + 4}">'
-                       f"{escape(_truncate(figures, TEXT_WIDTH - 12))}</text>")
+            out.append(
+                f'<text x="{figures_left}" y="{y + 4}">'
+                f"{escape(_truncate(figures, TEXT_WIDTH - 12))}</text>"
+            )
         out.append("</g>")
 
     # Axis with ticks under the plot column.
-    out.append(f'<line x1="{xpos(low)}" y1="{bottom}" x2="{xpos(high)}" y2="{bottom}" '
-               'stroke="black" stroke-width="1"/>')
+    out.append(
+        f'<line x1="{xpos(low)}" y1="{bottom}" x2="{xpos(high)}" y2="{bottom}" '
+        'stroke="black" stroke-width="1"/>'
+    )
     for tick in _ticks(low, high):
         tx = xpos(tick)
         out.append(f'<line x1="{tx}" y1="{bottom}" x2="{tx}" y2="{bottom + 5}" stroke="black"/>')
-        out.append(f'<text x="{tx}" y="{bottom + 18}" text-anchor="middle">'
-                   f"{escape(_fmt(tick, 2 if abs(tick * 10 - round(tick * 10)) > 1e-9 else 1))}"
-                   "</text>")
+        out.append(
+            f'<text x="{tx}" y="{bottom + 18}" text-anchor="middle">'
+            f"{escape(_fmt(tick, 2 if abs(tick * 10 - round(tick * 10)) > 1e-9 else 1))}"
+            "</text>"
+        )
     legend_y = bottom + 40
     out.append(f'<rect x="{MARGIN + 4}" y="{legend_y - 9}" width="10" height="10" fill="black"/>')
     out.append(f'<text x="{MARGIN + 20}" y="{legend_y}">rejected (Holm-adjusted)</text>')
-    out.append(f'<circle cx="{MARGIN + 200}" cy="{legend_y - 4}" r="4.5" fill="white" '
-               'stroke="black" stroke-width="1.5"/>')
+    out.append(
+        f'<circle cx="{MARGIN + 200}" cy="{legend_y - 4}" r="4.5" fill="white" '
+        'stroke="black" stroke-width="1.5"/>'
+    )
     out.append(f'<text x="{MARGIN + 212}" y="{legend_y}">not rejected</text>')
-    out.append(f'<path d="M {MARGIN + 330} {legend_y - 10} L {MARGIN + 336} {legend_y - 4} '
-               f'L {MARGIN + 330} {legend_y + 2} L {MARGIN + 324} {legend_y - 4} Z" '
-               'fill="white" stroke="black" stroke-width="1.5"/>')
+    out.append(
+        f'<path d="M {MARGIN + 330} {legend_y - 10} L {MARGIN + 336} {legend_y - 4} '
+        f'L {MARGIN + 330} {legend_y + 2} L {MARGIN + 324} {legend_y - 4} Z" '
+        'fill="white" stroke="black" stroke-width="1.5"/>'
+    )
     out.append(f'<text x="{MARGIN + 342}" y="{legend_y}">G-test effect (no interval)</text>')
     if min_effect:
-        out.append(f'<text x="{MARGIN + 540}" y="{legend_y}">dashed: \u00b1{_fmt(min_effect)} '
-                   "(smallest effect counted)</text>")
+        out.append(
+            f'<text x="{MARGIN + 540}" y="{legend_y}">dashed: \u00b1{_fmt(min_effect)} '
+            "(smallest effect counted)</text>"
+        )
     out.append("</svg>")
     return "\n".join(out) + "\n"

@@ -221,8 +221,14 @@ class Table:
     test that needs it reports a note).
     """
 
-    def __init__(self, frame: pd.DataFrame, *, source: str = "<memory>",
-                 categorical: Iterable[str] = (), notes: Iterable[ReadNote] = ()) -> None:
+    def __init__(
+        self,
+        frame: pd.DataFrame,
+        *,
+        source: str = "<memory>",
+        categorical: Iterable[str] = (),
+        notes: Iterable[ReadNote] = (),
+    ) -> None:
         _require()
         self.source = source
         self.notes: tuple[ReadNote, ...] = tuple(notes)  # what reading the file did
@@ -232,17 +238,20 @@ class Table:
         if unknown:
             raise DataError(f"{source}: no column named {', '.join(sorted(unknown))}")
         self._categorical = {
-            name
-            for name in frame.columns
-            if name in forced or not _is_numeric_dtype(frame[name])
+            name for name in frame.columns if name in forced or not _is_numeric_dtype(frame[name])
         }
         self._numeric_cache: dict[str, np.ndarray] = {}
         self._codes_cache: dict[str, tuple[np.ndarray, list[Any]]] = {}
         self._rankers: dict[str, _Ranker] = {}
 
     @classmethod
-    def from_columns(cls, columns: Mapping[str, Sequence[Any]], *, source: str = "<memory>",
-                     categorical: Iterable[str] = ()) -> Table:
+    def from_columns(
+        cls,
+        columns: Mapping[str, Sequence[Any]],
+        *,
+        source: str = "<memory>",
+        categorical: Iterable[str] = (),
+    ) -> Table:
         """Build a table from ``{name: values}`` (for tests and simulations)."""
         _require()
         return cls(_pd.DataFrame(dict(columns)), source=source, categorical=categorical)
@@ -266,8 +275,9 @@ class Table:
         """Float values with NaN for missing (and non-finite) cells."""
         cached = self._numeric_cache.get(name)
         if cached is None:
-            values = _np.asarray(self._frame[name].to_numpy(dtype="float64", na_value=_np.nan),
-                                 dtype=float)
+            values = _np.asarray(
+                self._frame[name].to_numpy(dtype="float64", na_value=_np.nan), dtype=float
+            )
             if not _np.isfinite(values).all():
                 values = values.copy()
                 values[~_np.isfinite(values)] = _np.nan
@@ -369,27 +379,37 @@ class ReadNote:
     def message(self) -> str:
         if self.kind == "format":
             mark = "decimal comma" if self.decimal == "," else "decimal point"
-            return (f"read as {SEPARATOR_NAMES.get(self.sep or ',', repr(self.sep))}-separated"
-                    f" with a {mark} (detected; --sep and --decimal set them)")
+            return (
+                f"read as {SEPARATOR_NAMES.get(self.sep or ',', repr(self.sep))}-separated"
+                f" with a {mark} (detected; --sep and --decimal set them)"
+            )
         if self.kind == "trailing-separator":
-            return ("every row ends with a separator after the last column; "
-                    "the empty field at the end is ignored")
+            return (
+                "every row ends with a separator after the last column; "
+                "the empty field at the end is ignored"
+            )
         if self.kind == "text-in-numeric":
             shown = ", ".join(f"`{v}`" for v in self.values)
             more = ", ..." if self.count > len(self.values) else ""
             rows = "row" if self.count == 1 else "rows"
-            return (f"column `{self.column}` is numeric but {self.count} {rows} hold text "
-                    f"({shown}{more}; first on line {self.first_line}): those cells are read "
-                    "as missing (use --categorical to read the column as categories)")
+            return (
+                f"column `{self.column}` is numeric but {self.count} {rows} hold text "
+                f"({shown}{more}; first on line {self.first_line}): those cells are read "
+                "as missing (use --categorical to read the column as categories)"
+            )
         if self.kind == "comma-numbers":
             shown = ", ".join(f"`{v}`" for v in self.values)
-            return (f"column `{self.column}` is read as categories, but {self.count} of its "
-                    f"cells look like numbers written with a comma ({shown}, ...); if the "
-                    "comma is the decimal mark, give --decimal , (or --numeric for this column)")
+            return (
+                f"column `{self.column}` is read as categories, but {self.count} of its "
+                f"cells look like numbers written with a comma ({shown}, ...); if the "
+                "comma is the decimal mark, give --decimal , (or --numeric for this column)"
+            )
         if self.kind == "huge-values":
-            return (f"column `{self.column}` holds values as large as {self.largest:.3g}; "
-                    "they are used as they are (scaled exactly by a power of two for the "
-                    "arithmetic), but check that they are not codes for missing values")
+            return (
+                f"column `{self.column}` holds values as large as {self.largest:.3g}; "
+                "they are used as they are (scaled exactly by a power of two for the "
+                "arithmetic), but check that they are not codes for missing values"
+            )
         return self.kind
 
 
@@ -433,8 +453,9 @@ def detect_format(sample: str, sep: str | None = None) -> tuple[str, str]:
     return best, decimal
 
 
-def load_table(path: str | Path, *, categorical: Iterable[str] = (),
-               options: ReadOptions | None = None) -> Table:
+def load_table(
+    path: str | Path, *, categorical: Iterable[str] = (), options: ReadOptions | None = None
+) -> Table:
     """Read a CSV file (header row, UTF-8 with optional BOM) into a :class:`Table`.
 
     The separator and decimal mark are detected (:func:`detect_format`) unless
@@ -476,8 +497,13 @@ def load_table(path: str | Path, *, categorical: Iterable[str] = (),
         raise DataError(f"{name}: not UTF-8 text ({exc.reason} at byte {exc.start})") from exc
 
 
-def table_from_text(text: str, source: str = "<text>", *, categorical: Iterable[str] = (),
-                    options: ReadOptions | None = None) -> Table:
+def table_from_text(
+    text: str,
+    source: str = "<text>",
+    *,
+    categorical: Iterable[str] = (),
+    options: ReadOptions | None = None,
+) -> Table:
     """A table from CSV text, read by the same rules as :func:`load_table`."""
     import io
 
@@ -704,7 +730,7 @@ def _count_block(block: bytes, sep_byte: int, nl: int, state: _WidthState, offse
             state._kind = kind
         odd_index = _np.flatnonzero(odd)
     for i in odd_index:
-        text = block[starts[i]:ends[i]].decode("utf-8", errors="replace").rstrip("\r")
+        text = block[starts[i] : ends[i]].decode("utf-8", errors="replace").rstrip("\r")
         state.row(next(csv.reader([text], delimiter=state.sep), []), offset + int(i) + 1)
     return offset + len(ends)
 
@@ -740,9 +766,7 @@ def _settle_column(
     bad = numbers.isna()
     n_numbers = int((~bad).sum())
     if not force_numeric and n_numbers <= int(bad.sum()):
-        if decimal == "." and len(text) and bool(
-            text.str.fullmatch(r"[+-]?\d+,\d+").mean() > 0.5
-        ):
+        if decimal == "." and len(text) and bool(text.str.fullmatch(r"[+-]?\d+,\d+").mean() > 0.5):
             # read as categories, but most cells look like `3,5`: say so
             return None, ReadNote("comma-numbers", column=column,
                                   values=tuple(dict.fromkeys(text[:_QUOTED_VALUES])),
@@ -800,8 +824,11 @@ def _partial_from_cov(cov: np.ndarray) -> tuple[float, int, str | None]:
             szz = corr[_np.ix_(keep, keep)]
             sxz = corr[_np.ix_([0, 1], keep)]
             pinv = _np.linalg.pinv(szz, rcond=1e-10, hermitian=True)
-            k = int(_np.linalg.matrix_rank(szz, tol=1e-10 * max(1.0, float(_np.abs(szz).max())),
-                                           hermitian=True))
+            k = int(
+                _np.linalg.matrix_rank(
+                    szz, tol=1e-10 * max(1.0, float(_np.abs(szz).max())), hermitian=True
+                )
+            )
             resid = resid - sxz @ pinv @ sxz.T
     v0, v1 = float(resid[0, 0]), float(resid[1, 1])
     if v0 <= 1e-12 or v1 <= 1e-12:
@@ -892,8 +919,9 @@ def g_test_conditional(x: Any, y: Any, strata: Any = None) -> tuple[float, int, 
         if strata.shape[0] != n:
             raise ValueError("strata differ in length from x")
         _, sc = _np.unique(strata, return_inverse=True, axis=0 if strata.ndim > 1 else None)
-    return _g_from_codes(xc.ravel().astype(_np.int64), yc.ravel().astype(_np.int64),
-                         sc.ravel().astype(_np.int64))
+    return _g_from_codes(
+        xc.ravel().astype(_np.int64), yc.ravel().astype(_np.int64), sc.ravel().astype(_np.int64)
+    )
 
 
 def _g_from_codes(xc: np.ndarray, yc: np.ndarray, sc: np.ndarray) -> tuple[float, int, float]:
@@ -974,8 +1002,9 @@ class _MomentBlock:
     Used for spearman; pearson uses :class:`_PartialRowMoments`.
     """
 
-    def __init__(self, table: Table, columns: Sequence[str], rows: np.ndarray | None,
-                 spearman: bool) -> None:
+    def __init__(
+        self, table: Table, columns: Sequence[str], rows: np.ndarray | None, spearman: bool
+    ) -> None:
         self.index = {name: i for i, name in enumerate(columns)}
         data = _np.empty((table.n_rows if rows is None else int(rows.sum()), len(columns)))
         for j, name in enumerate(columns):
@@ -985,8 +1014,9 @@ class _MomentBlock:
                 values = table.numeric(name)
                 data[:, j] = values if rows is None else values[rows]
         self.n = data.shape[0]
-        self.constant = {name: bool(self.n == 0 or _np.ptp(data[:, j]) == 0)
-                         for name, j in self.index.items()}
+        self.constant = {
+            name: bool(self.n == 0 or _np.ptp(data[:, j]) == 0) for name, j in self.index.items()
+        }
         self.cov = _covariance(data) if self.n > 1 else _np.zeros((len(columns),) * 2)
 
 
@@ -1065,8 +1095,14 @@ class _Ranker:
         return (before + (tied + 1.0) / 2.0)[groups]
 
 
-def _numeric_test(cov: np.ndarray, n: int, names: Sequence[str], constant: Mapping[str, bool],
-                  method: str, k_override: int | None = None) -> _Raw:
+def _numeric_test(
+    cov: np.ndarray,
+    n: int,
+    names: Sequence[str],
+    constant: Mapping[str, bool],
+    method: str,
+    k_override: int | None = None,
+) -> _Raw:
     """Fisher z test on the partial correlation of names[0], names[1] | rest."""
     a, b = names[0], names[1]
     for name in (a, b):
@@ -1075,8 +1111,9 @@ def _numeric_test(cov: np.ndarray, n: int, names: Sequence[str], constant: Mappi
     notes = []
     dropped = [z for z in names[2:] if constant[z]]
     if dropped:
-        notes.append("constant conditioning column " + ", ".join(f"`{z}`" for z in dropped)
-                     + " left out")
+        notes.append(
+            "constant conditioning column " + ", ".join(f"`{z}`" for z in dropped) + " left out"
+        )
     r, k, note = _partial_from_cov(cov)
     if k_override is not None:
         k = k_override
@@ -1084,8 +1121,11 @@ def _numeric_test(cov: np.ndarray, n: int, names: Sequence[str], constant: Mappi
         return _untested(method, n, note)
     factor = SPEARMAN_VARIANCE_FACTOR if method == "spearman" else 1.0
     if n - k - 3 < 1:
-        return _untested(method, n, f"too few complete cases (n = {n} with {k} conditioning"
-                                    " variables; need n > k + 3)")
+        return _untested(
+            method,
+            n,
+            f"too few complete cases (n = {n} with {k} conditioning variables; need n > k + 3)",
+        )
     z, p = fisher_z_test(r, n, k, variance_factor=factor)
     low, high = _fisher_interval(r, n, k, factor)
     return _Raw(method, z, None, n, p, r, low, high, "; ".join(notes) or None)
@@ -1131,13 +1171,18 @@ def _g_test(table: Table, ind: Independence, rows: np.ndarray) -> _Raw:
         # and sparse tables call real dependence "consistent" (rule of thumb:
         # at least 5 expected rows per cell, Cochran 1954, from memory).
         strata = int(sc.max() + 1)
-        return _untested("g-test", n, f"too few rows for the G-test: {n} rows for {cells:,} "
-                         f"cells ({int(xc.max() + 1)} x {int(yc.max() + 1)} levels in "
-                         f"{strata:,} strata), fewer than {G_TEST_MIN_PER_CELL} a cell")
+        return _untested(
+            "g-test",
+            n,
+            f"too few rows for the G-test: {n} rows for {cells:,} "
+            f"cells ({int(xc.max() + 1)} x {int(yc.max() + 1)} levels in "
+            f"{strata:,} strata), fewer than {G_TEST_MIN_PER_CELL} a cell",
+        )
     g, df, p = _g_from_codes(xc, yc, sc)
     if df == 0:
-        return _untested("g-test", n, "no stratum of the conditioning set shows two levels"
-                                      " of both variables")
+        return _untested(
+            "g-test", n, "no stratum of the conditioning set shows two levels of both variables"
+        )
     m = min(int(xc.max()), int(yc.max()))  # min(R, C) - 1 over the whole table
     effect = math.sqrt(max(g - df, 0.0) / (n * m))
     return _Raw("g-test", g, df, n, p, effect, None, None, None)
@@ -1222,8 +1267,9 @@ def test_independencies(
     for i, ind in enumerate(items):
         absent = [name for name in dict.fromkeys(ind.columns()) if not table.has_column(name)]
         if absent:
-            raws[i] = _untested(method, 0, "not in the data: "
-                                + ", ".join(f"`{name}`" for name in absent))
+            raws[i] = _untested(
+                method, 0, "not in the data: " + ", ".join(f"`{name}`" for name in absent)
+            )
             report()
             continue
         if len(set(ind.columns())) != len(ind.columns()):
@@ -1232,8 +1278,9 @@ def test_independencies(
             continue
         empty = [name for name in dict.fromkeys(ind.columns()) if all_missing[name]]
         if empty:
-            raws[i] = _untested(method, 0, "no values in column "
-                                + ", ".join(f"`{name}`" for name in empty))
+            raws[i] = _untested(
+                method, 0, "no values in column " + ", ".join(f"`{name}`" for name in empty)
+            )
             report()
             continue
         if any(table.is_categorical(name) for name in ind.columns()):
@@ -1273,8 +1320,7 @@ def test_independencies(
             for i in members:
                 ind = items[i]
                 if block.n < 2:
-                    raws[i] = _untested(method, block.n,
-                                        f"too few complete cases (n = {block.n})")
+                    raws[i] = _untested(method, block.n, f"too few complete cases (n = {block.n})")
                 else:
                     index = [block.index[name] for name in ind.columns()]
                     sub = block.cov[_np.ix_(index, index)]
@@ -1292,11 +1338,22 @@ def test_independencies(
             and raw.effect is not None
             and abs(raw.effect) >= min_effect
         )
-        results.append(TestResult(
-            independence=ind, method=raw.method, statistic=raw.statistic, df=raw.df, n=raw.n,
-            p=raw.p, p_adjusted=p_adj, effect=raw.effect, ci_low=raw.ci_low,
-            ci_high=raw.ci_high, rejected=rejected, note=raw.note,
-        ))
+        results.append(
+            TestResult(
+                independence=ind,
+                method=raw.method,
+                statistic=raw.statistic,
+                df=raw.df,
+                n=raw.n,
+                p=raw.p,
+                p_adjusted=p_adj,
+                effect=raw.effect,
+                ci_low=raw.ci_low,
+                ci_high=raw.ci_high,
+                rejected=rejected,
+                note=raw.note,
+            )
+        )
     return results
 
 
@@ -1343,5 +1400,3 @@ def simulate_linear_gaussian(
             column = (column - column.mean()) / column.std()
         values[node] = column
     return values
-
-

@@ -62,7 +62,9 @@ def grammar_text() -> str:
 _new = tuple.__new__
 _ARROW_LINE_PIECE = re.compile(r"[^\W\d][\w.]*|<->|->|,|#[^\n]*")
 # the most common line, `a -> b  # reason`, in one match
-_SINGLE_ARROW = re.compile(r"[ \t]*([^\W\d][\w.]*)[ \t]*(<?->)[ \t]*([^\W\d][\w.]*)[ \t]*(#[^\n]*)?\n")
+_SINGLE_ARROW = re.compile(
+    r"[ \t]*([^\W\d][\w.]*)[ \t]*(<?->)[ \t]*([^\W\d][\w.]*)[ \t]*(#[^\n]*)?\n"
+)
 
 
 class _ReservedName(Exception):
@@ -183,9 +185,7 @@ class _Builder(Transformer):
                 current = []
             elif ch == "#":
                 col = col0 + m.start()
-                self.comments.append(
-                    Comment(piece, Span(line, col, line, col + len(piece)), True)
-                )
+                self.comments.append(Comment(piece, Span(line, col, line, col + len(piece)), True))
             else:
                 if piece in RESERVED_WORDS:
                     col = col0 + m.start()
@@ -538,7 +538,9 @@ def _explain(text: str, e: UnexpectedInput) -> SyntaxProblem:
         elif ch.isdigit():
             msg = f"a name cannot start with a digit (`{ch}`): start it with a letter or `_`"
         elif ch in "<-=>":
-            msg = f"unexpected `{ch}`: arrows are written `->` (cause) or `<->` (shared hidden cause)"
+            msg = (
+                f"unexpected `{ch}`: arrows are written `->` (cause) or `<->` (shared hidden cause)"
+            )
         elif ch == ";":
             msg = "unexpected `;`: statements end at the end of the line, without `;`"
         else:

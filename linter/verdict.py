@@ -130,9 +130,7 @@ class Problem:
         if self.given:
             out["given"] = list(self.given)
         if self.paths:
-            out["paths"] = [
-                list(q if graph is None else json_path(graph, q)) for q in self.paths
-            ]
+            out["paths"] = [list(q if graph is None else json_path(graph, q)) for q in self.paths]
         return out
 
 
@@ -271,9 +269,7 @@ class Verdict:
     def suggestions(self, limit: int = 3) -> tuple[tuple[str, ...], ...]:
         """Minimal valid sets, the ones closest to the declared set first."""
         declared = set(self.declared or ())
-        ranked = sorted(
-            self.minimal_sets, key=lambda s: (len(set(s) ^ declared), len(s), s)
-        )
+        ranked = sorted(self.minimal_sets, key=lambda s: (len(set(s) ^ declared), len(s), s))
         return tuple(ranked[:limit])
 
     @cached_property
@@ -562,9 +558,7 @@ class Verdict:
         for z in sorted(Z - self.measured):
             out.append(Problem("adjusted-unmeasured", variable=z))
         for z in sorted(Z & self.mediators):
-            out.append(
-                Problem("adjusted-mediator", variable=z, path=self._causal_path_through(z))
-            )
+            out.append(Problem("adjusted-mediator", variable=z, path=self._causal_path_through(z)))
         for z in sorted((Z & self.forbidden) - self.mediators):
             path, source, kind = self._source_of(z)
             out.append(
@@ -700,9 +694,7 @@ class Verdict:
             "minimal_sets": [list(s) for s in minimal],
             "smallest": None if self.smallest is None else list(self.smallest),
             "truncated": truncated,
-            "best_achievable": None
-            if self.best_achievable is None
-            else list(self.best_achievable),
+            "best_achievable": None if self.best_achievable is None else list(self.best_achievable),
             "front_door": None if self.front_door is None else list(self.front_door),
             "route": self.route,
             "problems": [p.to_dict(self.graph) for p in self.problems],
@@ -727,9 +719,7 @@ class Verdict:
             out["selection"] = {
                 "valid": sel.valid,
                 "recoverable": sel.recoverable,
-                "recovery_set": None
-                if sel.recovery_set is None
-                else sorted(sel.recovery_set),
+                "recovery_set": None if sel.recovery_set is None else sorted(sel.recovery_set),
                 "outcome_only": sel.outcome_only,
                 "odds_ratio_survives": sel.odds_ratio.survives,
                 "odds_ratio_set": None

@@ -189,13 +189,10 @@ def _adjusted_unmeasured(p: Problem, v: Verdict) -> str:
 
 def _adjusted_mediator(p: Problem, v: Verdict) -> str:
     shown = f": it lies on the causal path {spell_path(v.graph, p.path)}" if p.path else ""
-    return (
-        f"adjusting for `{p.variable}` blocks part of the effect (it is a mediator){shown}; "
-        + (
-            "remove it from `adjust:` to estimate the total effect"
-            if v.question == "total"
-            else "remove it from `adjust:`"
-        )
+    return f"adjusting for `{p.variable}` blocks part of the effect (it is a mediator){shown}; " + (
+        "remove it from `adjust:` to estimate the total effect"
+        if v.question == "total"
+        else "remove it from `adjust:`"
     )
 
 

@@ -230,7 +230,9 @@ def main() -> None:
         summary = kept[-1] if kept else run.stderr[-200:]
         rows.append(("dagward check: 100,000 variables, 200,000 arrows, 3 analyses (2 valid, 1 not)",
                      f"{t_big:.2f} s", summary, "< 10 s", "met" if t_big < 10 else "MISSED"))  # fmt: skip
-        _, peak, _ = run_measured([sys.executable, "-m", "dagward", "check", str(path)], tmpdir, 120)
+        _, peak, _ = run_measured(
+            [sys.executable, "-m", "dagward", "check", str(path)], tmpdir, 120
+        )
         rows.append(("  peak memory of that check", f"{peak:.0f} MB", f"{peak * 1024 / 100_000:.1f} KB per variable",
                      "<= 1 KB/variable", "met" if peak * 1024 / 100_000 <= 1 else "MISSED"))  # fmt: skip
 

@@ -19,7 +19,6 @@ import time
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
 
 import networkx as nx  # noqa: E402
-
 from dagward.causal import hidden_node_name  # noqa: E402
 from dagward.causal.identify import general_identification, identify_effect  # noqa: E402
 from dagward.causal.instruments import instruments  # noqa: E402

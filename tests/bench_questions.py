@@ -31,7 +31,6 @@ import time
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
 
 import networkx as nx  # noqa: E402
-
 from dagward.causal import (  # noqa: E402
     adjustment_exists,
     collider_bias_paths,
@@ -212,7 +211,9 @@ def check_path_table(G, x, y, m, r, a1, Z) -> None:
     print(f"{'analysis':64} {'seconds':>8} {'x total':>8}  verdict  rules fired")
     for name, t, rules in rows:
         verdict = "met" if t / total <= 5 else "MISSED"
-        print(f"{name:64} {t:8.4f} {t / total:8.1f}  {verdict:7}  {', '.join(sorted(rules)) or '-'}")
+        print(
+            f"{name:64} {t:8.4f} {t / total:8.1f}  {verdict:7}  {', '.join(sorted(rules)) or '-'}"
+        )
 
 
 if __name__ == "__main__":

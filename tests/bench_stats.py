@@ -87,18 +87,26 @@ def main() -> None:
             figures.append((method, seconds, rejected, len(results)))
 
     given = [len(ind.given) for ind in independencies]
-    print(f"diagram: {VARIABLES} variables, {graph.number_of_edges()} arrows, "
-          f"{len(independencies)} implied independencies "
-          f"(conditioning sets of size {min(given)}-{max(given)}, mean {np.mean(given):.1f})")
-    print(f"data: {args.rows:,} rows, CSV {size_mb:.0f} MB (written in {write_seconds:.1f} s, "
-          f"not timed){', 0.1% cells missing per column' if args.missing else ''}")
+    print(
+        f"diagram: {VARIABLES} variables, {graph.number_of_edges()} arrows, "
+        f"{len(independencies)} implied independencies "
+        f"(conditioning sets of size {min(given)}-{max(given)}, mean {np.mean(given):.1f})"
+    )
+    print(
+        f"data: {args.rows:,} rows, CSV {size_mb:.0f} MB (written in {write_seconds:.1f} s, "
+        f"not timed){', 0.1% cells missing per column' if args.missing else ''}"
+    )
     print()
-    print(f"{'method':<10}{'load s':>9}{'tests s':>9}{'total s':>9}{'target s':>10}"
-          f"{'ratio':>8}{'rejected':>10}")
+    print(
+        f"{'method':<10}{'load s':>9}{'tests s':>9}{'total s':>9}{'target s':>10}"
+        f"{'ratio':>8}{'rejected':>10}"
+    )
     for method, seconds, rejected, total in figures:
         whole = load_seconds + seconds
-        print(f"{method:<10}{load_seconds:>9.2f}{seconds:>9.2f}{whole:>9.2f}"
-              f"{TARGET_SECONDS:>10.0f}{whole / TARGET_SECONDS:>8.2f}{rejected:>6}/{total}")
+        print(
+            f"{method:<10}{load_seconds:>9.2f}{seconds:>9.2f}{whole:>9.2f}"
+            f"{TARGET_SECONDS:>10.0f}{whole / TARGET_SECONDS:>8.2f}{rejected:>6}/{total}"
+        )
     worst = max(load_seconds + seconds for _m, seconds, _r, _t in figures)
     print()
     print("within target" if worst <= TARGET_SECONDS else "OVER TARGET")

@@ -73,12 +73,18 @@ def main(cases: int = 20000, seed: int = 7) -> None:
             v.__dict__["fixable"] = frozenset(fixable)
             conf_misses += Verdict._confounding_with_fixable(v, frozenset(Z)) is None
     print(f"random diagrams of 3-10 variables with <-> and unmeasured variables: {cases}")
-    print(f"collider-adjusted, linear search: {misses} missed of {pairs} "
-          f"(adjusted variable, analysis) pairs = {100 * misses / max(pairs, 1):.2f}%")
-    print(f"open-biasing-path, linear search: {conf_misses} missed of {conf_cases} "
-          f"analyses = {100 * conf_misses / max(conf_cases, 1):.2f}%")
-    print("exact listing (used up to 40 nodes): 0 missed by construction; "
-          "checked against the brute-force oracle in tests/test_verdict.py")
+    print(
+        f"collider-adjusted, linear search: {misses} missed of {pairs} "
+        f"(adjusted variable, analysis) pairs = {100 * misses / max(pairs, 1):.2f}%"
+    )
+    print(
+        f"open-biasing-path, linear search: {conf_misses} missed of {conf_cases} "
+        f"analyses = {100 * conf_misses / max(conf_cases, 1):.2f}%"
+    )
+    print(
+        "exact listing (used up to 40 nodes): 0 missed by construction; "
+        "checked against the brute-force oracle in tests/test_verdict.py"
+    )
 
 
 if __name__ == "__main__":

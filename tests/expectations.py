@@ -39,7 +39,7 @@ def expectations_in(raw: bytes | str, name: str = "<text>") -> tuple[Counter, li
         # the file does not parse; its annotations are still plain comments on lines
         text = raw.decode("utf-8", errors="replace")
         comments = [
-            (i, line[line.index("#"):])
+            (i, line[line.index("#") :])
             for i, line in enumerate(text.splitlines(), start=1)
             if "#" in line
         ]
@@ -47,11 +47,11 @@ def expectations_in(raw: bytes | str, name: str = "<text>") -> tuple[Counter, li
         for part in text.split("#")[1:]:
             body = part.strip()
             if body.startswith(EXPECT):
-                expected.update((line, r) for r in _rules(body[len(EXPECT):]))
+                expected.update((line, r) for r in _rules(body[len(EXPECT) :]))
             elif body.startswith(EXPECT_NEXT):
-                expected.update((line + 1, r) for r in _rules(body[len(EXPECT_NEXT):]))
+                expected.update((line + 1, r) for r in _rules(body[len(EXPECT_NEXT) :]))
             elif body.startswith("fixture:"):
-                options.extend(body[len("fixture:"):].split())
+                options.extend(body[len("fixture:") :].split())
     return expected, options
 
 

@@ -12,7 +12,7 @@ from helpers.oracle import blocked, causal, oracle_minimal_valid_sets, oracle_va
 from helpers.question_oracles import oracle_sets_given, oracle_valid_for_question
 
 KEYS = ["name", "exposure", "outcome", "declared", "declared_valid", "identifiable",
-        "minimal_sets", "smallest", "truncated", "best_achievable", "front_door", "problems", "notes",
+        "minimal_sets", "smallest", "truncated", "best_achievable", "front_door", "route", "problems", "notes",
         "question"]  # fmt: skip
 
 
@@ -57,12 +57,16 @@ def test_adjustment_json_matches_the_oracle_on_every_sample():
             declared = analysis.adjust_set
             assert report["declared"] == (None if declared is None else sorted(declared))
             assert report["declared_valid"] == (
-                None if declared is None else declared <= d.measured and oracle_valid(G, X, Y, set(declared))
+                None
+                if declared is None
+                else declared <= d.measured and oracle_valid(G, X, Y, set(declared))
             )
 
 
 def test_adjustment_text_max_and_unknown_analysis():
-    run = dagward("adjustment", "samples/wellness.dag", "--analysis", "fitness_effect", "--max", "1")
+    run = dagward(
+        "adjustment", "samples/wellness.dag", "--analysis", "fitness_effect", "--max", "1"
+    )
     assert run.code == 0
     assert "declared set: {age, shift_work} is valid" in run.out
     assert "cut at --max 1" in run.out
@@ -74,7 +78,11 @@ def test_adjustment_text_max_and_unknown_analysis():
     run = dagward("adjustment", "tests/fixtures/causal/front_door.dag", "--format", "json")
     report = json.loads(run.out)["analyses"][0]
     assert report["declared"] is None and report["declared_valid"] is None
-    assert report["identifiable"] is False and report["minimal_sets"] == [] and report["smallest"] is None
+    assert (
+        report["identifiable"] is False
+        and report["minimal_sets"] == []
+        and report["smallest"] is None
+    )
 
 
 def test_paths_are_classified_as_the_definitions_say():
@@ -101,7 +109,9 @@ def test_paths_given_overrides_adjust_and_limit_says_so(tmp_path):
     # a dense diagram has far more paths than can be listed
     rng = random.Random(5)
     names = [f"v{i}" for i in range(60)]
-    lines = [f"{a} -> {b}" for i, a in enumerate(names) for b in names[i + 1:] if rng.random() < 0.3]
+    lines = [
+        f"{a} -> {b}" for i, a in enumerate(names) for b in names[i + 1 :] if rng.random() < 0.3
+    ]
     lines += ["analysis {", "  exposure: v0", "  outcome: v59", "  adjust: v1, v2", "}"]
     p = tmp_path / "dense.dag"
     p.write_text("\n".join(lines) + "\n")

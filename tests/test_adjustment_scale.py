@@ -13,7 +13,6 @@ from __future__ import annotations
 import random
 
 import networkx as nx
-
 from dagward.causal import (
     forbidden,
     is_valid_adjustment,

@@ -61,9 +61,15 @@ def test_hidden_node_convention():
 # X1 = soil_type, X2 = income, X3 = district_age, X4 = irrigation,
 # X5 = housing_density, X6 = shade_index (a mediator).
 PEARL_FIG = dag(
-    "soil_type->district_age", "soil_type->irrigation", "income->district_age",
-    "income->housing_density", "district_age->canopy", "district_age->heat_admissions",
-    "irrigation->canopy", "housing_density->heat_admissions", "canopy->shade_index",
+    "soil_type->district_age",
+    "soil_type->irrigation",
+    "income->district_age",
+    "income->housing_density",
+    "district_age->canopy",
+    "district_age->heat_admissions",
+    "irrigation->canopy",
+    "housing_density->heat_admissions",
+    "canopy->shade_index",
     "shade_index->heat_admissions",
 )
 
@@ -74,20 +80,33 @@ def test_pearl_backdoor_example_admissible_and_not():
     assert is_valid_adjustment(G, X, Y, {"district_age", "housing_density"})
     # {X4} leaves canopy <- district_age -> heat_admissions open.
     assert not is_valid_adjustment(G, X, Y, {"irrigation"})
-    assert confounding_path(G, X, Y, {"irrigation"}) == ["canopy", "district_age", "heat_admissions"]
+    assert confounding_path(G, X, Y, {"irrigation"}) == [
+        "canopy",
+        "district_age",
+        "heat_admissions",
+    ]
     # {X3} alone opens the collider district_age on
     # canopy <- irrigation <- soil_type -> district_age <- income -> housing_density -> heat_admissions.
     assert not is_valid_adjustment(G, X, Y, {"district_age"})
     path, c = collider_bias_path(G, X, Y, {"district_age"}, "district_age")
     assert c == "district_age"
-    assert path == ["canopy", "irrigation", "soil_type", "district_age", "income",
-                    "housing_density", "heat_admissions"]
+    assert path == [
+        "canopy",
+        "irrigation",
+        "soil_type",
+        "district_age",
+        "income",
+        "housing_density",
+        "heat_admissions",
+    ]
     # X6 is a mediator: never admissible.
     assert mediators(G, X, Y) == {"shade_index"}
     assert not is_valid_adjustment(G, X, Y, {"district_age", "irrigation", "shade_index"})
     sets = set(minimal_adjustment_sets(G, X, Y, observed(G)))
-    assert sets == {frozenset({"district_age", s}) for s in
-                    ("soil_type", "income", "irrigation", "housing_density")}
+    assert sets == {
+        frozenset({"district_age", s})
+        for s in ("soil_type", "income", "irrigation", "housing_density")
+    }
     assert len(smallest_adjustment_set(G, X, Y, observed(G))) == 2
 
 
@@ -95,8 +114,11 @@ def test_pearl_backdoor_example_admissible_and_not():
 # research", Epidemiology 10:37-48.  Renamed: wellness programme and sick days;
 # prior_injury is a pre-exposure collider of two unmeasured causes.
 M_BIAS = dag(
-    "motivation->enrolled", "motivation->prior_injury", "frailty->prior_injury",
-    "frailty->sick_days", "enrolled->sick_days",
+    "motivation->enrolled",
+    "motivation->prior_injury",
+    "frailty->prior_injury",
+    "frailty->sick_days",
+    "enrolled->sick_days",
 )
 
 
@@ -106,7 +128,10 @@ def test_m_bias_adjusting_the_collider_is_invalid():
     assert is_valid_adjustment(G, X, Y, set())
     assert not is_valid_adjustment(G, X, Y, {"prior_injury"})
     found = collider_bias_path(G, X, Y, {"prior_injury"}, "prior_injury")
-    assert found == (["enrolled", "motivation", "prior_injury", "frailty", "sick_days"], "prior_injury")
+    assert found == (
+        ["enrolled", "motivation", "prior_injury", "frailty", "sick_days"],
+        "prior_injury",
+    )
     assert confounding_path(G, X, Y, {"prior_injury"}) is None
     assert list(minimal_adjustment_sets(G, X, Y, measured)) == [frozenset()]
 
@@ -115,8 +140,10 @@ def test_m_bias_adjusting_the_collider_is_invalid():
 # weight 'paradox' uncovered?", Am J Epidemiol 164:1115-1120.  Structure from
 # memory: smoking -> low birth weight <- birth defects -> mortality.
 BIRTH = dag(
-    "smoking->low_birth_weight", "smoking->infant_mortality",
-    "low_birth_weight->infant_mortality", "birth_defect->low_birth_weight",
+    "smoking->low_birth_weight",
+    "smoking->infant_mortality",
+    "low_birth_weight->infant_mortality",
+    "birth_defect->low_birth_weight",
     "birth_defect->infant_mortality",
 )
 
@@ -135,14 +162,24 @@ def test_birth_weight_paradox():
     assert d_separated(Gd, {"smoking"}, {"infant_mortality"}, set())
     assert not d_separated(Gd, {"smoking"}, {"infant_mortality"}, {"low_birth_weight"})
     assert open_noncausal_path(G, X, Y, {"low_birth_weight"}) == [
-        "smoking", "low_birth_weight", "birth_defect", "infant_mortality"]
+        "smoking",
+        "low_birth_weight",
+        "birth_defect",
+        "infant_mortality",
+    ]
 
 
 # Over-adjustment: Schisterman, Cole & Platt 2009, "Overadjustment bias and
 # unnecessary adjustment in epidemiologic studies", Epidemiology 20:488-495.
 def test_overadjustment_for_mediator_and_its_descendant():
-    G = dag("amendment->soil_nitrogen", "soil_nitrogen->crop_yield", "amendment->crop_yield",
-            "soil_nitrogen->leaf_colour", "rainfall->crop_yield", "rainfall->amendment")
+    G = dag(
+        "amendment->soil_nitrogen",
+        "soil_nitrogen->crop_yield",
+        "amendment->crop_yield",
+        "soil_nitrogen->leaf_colour",
+        "rainfall->crop_yield",
+        "rainfall->amendment",
+    )
     X, Y = {"amendment"}, {"crop_yield"}
     assert proper_causal_nodes(G, X, Y) == {"soil_nitrogen", "crop_yield"}
     assert forbidden(G, X, Y) == {"soil_nitrogen", "crop_yield", "leaf_colour"}
@@ -155,8 +192,12 @@ def test_overadjustment_for_mediator_and_its_descendant():
 # Adjustment criterion, not back-door: Shpitser, VanderWeele & Robins 2010,
 # "On the validity of covariate adjustment for estimating causal effects", UAI.
 def test_valid_set_that_fails_the_backdoor_criterion():
-    G = dag("canopy->heat_admissions", "canopy->bird_count", "district_age->canopy",
-            "district_age->heat_admissions")
+    G = dag(
+        "canopy->heat_admissions",
+        "canopy->bird_count",
+        "district_age->canopy",
+        "district_age->heat_admissions",
+    )
     X, Y = {"canopy"}, {"heat_admissions"}
     # bird_count is an effect of the exposure (back-door criterion forbids
     # any descendant of X) but does not affect the outcome: still valid.
@@ -170,8 +211,9 @@ def test_valid_set_that_fails_the_backdoor_criterion():
 # Front door: Pearl 1995, "Causal diagrams for empirical research",
 # Biometrika 82:669-688 (smoking -> tar -> cancer with a hidden confounder), renamed.
 def test_front_door():
-    G = dag("enrolled->step_count", "step_count->sick_days",
-            bidirected=(("enrolled", "sick_days"),))
+    G = dag(
+        "enrolled->step_count", "step_count->sick_days", bidirected=(("enrolled", "sick_days"),)
+    )
     measured = {"enrolled", "step_count", "sick_days"}
     X, Y = {"enrolled"}, {"sick_days"}
     assert not adjustment_exists(G, X, Y, measured)
@@ -179,8 +221,11 @@ def test_front_door():
     assert list(minimal_adjustment_sets(G, X, Y, measured)) == []
     assert front_door_set(G, X, Y, measured) == frozenset({"step_count"})
     # A hidden confounder of mediator and outcome breaks condition (iii).
-    G2 = dag("enrolled->step_count", "step_count->sick_days",
-             bidirected=(("enrolled", "sick_days"), ("step_count", "sick_days")))
+    G2 = dag(
+        "enrolled->step_count",
+        "step_count->sick_days",
+        bidirected=(("enrolled", "sick_days"), ("step_count", "sick_days")),
+    )
     assert front_door_set(G2, X, Y, measured) is None
     # An unmeasured mediator leaves no measured front-door set.
     assert front_door_set(G, X, Y, {"enrolled", "sick_days"}) is None
@@ -191,8 +236,13 @@ def test_front_door():
 # adjusting for instrumental variables on bias and precision of effect
 # estimates", Am J Epidemiol 174:1213-1222.
 def test_instrument_like_variable():
-    G = dag("distance_to_gym->enrolled", "enrolled->sick_days", "age->enrolled", "age->sick_days",
-            bidirected=(("enrolled", "sick_days"),))
+    G = dag(
+        "distance_to_gym->enrolled",
+        "enrolled->sick_days",
+        "age->enrolled",
+        "age->sick_days",
+        bidirected=(("enrolled", "sick_days"),),
+    )
     X, Y = {"enrolled"}, {"sick_days"}
     Z = {"distance_to_gym", "age"}
     assert instrument_like(G, X, Y, Z, "distance_to_gym")
@@ -203,14 +253,17 @@ def test_describe_and_enumerate_paths():
     G = M_BIAS
     paths, cut = enumerate_paths(G, {"enrolled"}, {"sick_days"}, limit=10)
     assert not cut
-    assert paths == [["enrolled", "motivation", "prior_injury", "frailty", "sick_days"],
-                     ["enrolled", "sick_days"]]
+    assert paths == [
+        ["enrolled", "motivation", "prior_injury", "frailty", "sick_days"],
+        ["enrolled", "sick_days"],
+    ]
     info = describe_path(G, paths[0], {"enrolled"}, set())
     assert not info.causal and not info.open
     assert [(b.node, b.reason) for b in info.blocking] == [("prior_injury", REASON_COLLIDER)]
     info = describe_path(G, paths[0], {"enrolled"}, {"prior_injury"})
     assert info.open and [(o.collider, o.adjusted) for o in info.opened_colliders] == [
-        ("prior_injury", "prior_injury")]
+        ("prior_injury", "prior_injury")
+    ]
     info = describe_path(G, paths[0], {"enrolled"}, {"motivation", "prior_injury"})
     assert [(b.node, b.reason) for b in info.blocking] == [("motivation", REASON_NONCOLLIDER)]
     assert describe_path(G, paths[1], {"enrolled"}, set()).causal
@@ -223,7 +276,9 @@ def _dense_dag(n: int, p: float, seed: int) -> nx.DiGraph:
     names = [f"w{i:02d}" for i in range(n)]
     G = nx.DiGraph()
     G.add_nodes_from(names)
-    G.add_edges_from((a, b) for i, a in enumerate(names) for b in names[i + 1:] if rng.random() < p)
+    G.add_edges_from(
+        (a, b) for i, a in enumerate(names) for b in names[i + 1 :] if rng.random() < p
+    )
     return G
 
 
@@ -246,8 +301,10 @@ def test_dense_sixty_variable_dag():
     assert confounding_path(G, X, Y, canon) is None
     path = confounding_path(G, X, Y, set())
     assert path is not None and G.has_edge(path[1], path[0])
-    assert not any(G.has_edge(path[i - 1], path[i]) and G.has_edge(path[i + 1], path[i])
-                   for i in range(1, len(path) - 1))
+    assert not any(
+        G.has_edge(path[i - 1], path[i]) and G.has_edge(path[i + 1], path[i])
+        for i in range(1, len(path) - 1)
+    )
     # adjusting for a forbidden descendant of the outcome opens collider paths
     z = sorted(forb - proper_causal_nodes(G, X, Y))[0]
     Z = set(canon) | {z}
@@ -262,4 +319,6 @@ def test_dense_sixty_variable_dag():
         assert info.open and not info.causal and path[0] in X and path[-1] in Y
         for opened in info.opened_colliders:
             found = collider_bias_path(G, X, Y, smaller, opened.adjusted)
-            assert found is not None and found[1] in nx.ancestors(G, opened.adjusted) | {opened.adjusted}
+            assert found is not None and found[1] in nx.ancestors(G, opened.adjusted) | {
+                opened.adjusted
+            }

@@ -69,7 +69,9 @@ def dsep_query(draw, max_nodes=8, max_hidden=2):
     G, names, measured = draw(random_dag(min_nodes=2, max_nodes=max_nodes, max_hidden=max_hidden))
     nodes = sorted(G.nodes)
     xs = draw(st.sets(st.sampled_from(nodes), min_size=1, max_size=2))
-    ys = draw(st.sets(st.sampled_from([v for v in nodes if v not in xs] or nodes), min_size=1, max_size=2))
+    ys = draw(
+        st.sets(st.sampled_from([v for v in nodes if v not in xs] or nodes), min_size=1, max_size=2)
+    )
     ys -= xs
     pool = [v for v in nodes if v not in xs | ys]
     zs = draw(st.sets(st.sampled_from(pool), max_size=4)) if pool else set()
@@ -263,7 +265,9 @@ def test_collider_bias_path_rarely_misses_a_variable():
         names = [f"n{i}" for i in range(n)]
         G = nx.DiGraph()
         G.add_nodes_from(names)
-        G.add_edges_from((a, b) for i, a in enumerate(names) for b in names[i + 1 :] if rng.random() < 0.4)
+        G.add_edges_from(
+            (a, b) for i, a in enumerate(names) for b in names[i + 1 :] if rng.random() < 0.4
+        )
         order = rng.sample(names, n)
         nx_, ny_ = rng.randint(1, 2), rng.randint(1, 2)
         X, Y = set(order[:nx_]), set(order[nx_ : nx_ + ny_])

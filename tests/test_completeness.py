@@ -46,7 +46,7 @@ def case_with_unmeasured_adjustment(draw):
     return case, frozenset(case.Z | extra)
 
 
-@settings(max_examples=500, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(case_with_unmeasured_adjustment())
 def test_declared_set_valid_iff_no_validity_rule_fires(drawn):
     case, Z = drawn
@@ -93,7 +93,9 @@ def test_confounding_and_collider_paths_are_real(case):
         for i, n in enumerate(shown):
             if n == "<->":
                 a, b = shown[i - 1], shown[i + 1]
-                nodes.append(next(h for h in G.predecessors(a) if is_hidden(G, h) and b in G.successors(h)))
+                nodes.append(
+                    next(h for h in G.predecessors(a) if is_hidden(G, h) and b in G.successors(h))
+                )
             else:
                 assert n in names
                 nodes.append(n)

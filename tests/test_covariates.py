@@ -28,7 +28,6 @@ from pathlib import Path
 import networkx as nx
 import pytest
 from clirunner import ROOT, Run, dagward
-
 from dagward.api import load_diagram
 from dagward.cli import main
 from dagward.formula import FormulaProblem, parse_formula

@@ -17,7 +17,6 @@ from pathlib import Path
 
 import pytest
 from clirunner import ROOT, dagward
-
 from dagward.data import DataOptions, implied, load_data, run_tests
 from dagward.errors import UsageProblem
 from dagward.stats import ReadOptions, detect_format
@@ -127,9 +126,11 @@ def test_text_cells_in_a_numeric_column_are_missing_values_and_reported(tmp_path
 
 
 def test_a_mostly_text_column_stays_categorical(tmp_path):
-    text = "site,score\n" + "".join(
-        f"{['north', 'south', 'east'][i % 3]},{i % 7}\n" for i in range(60)
-    ) + "12,3\n"
+    text = (
+        "site,score\n"
+        + "".join(f"{['north', 'south', 'east'][i % 3]},{i % 7}\n" for i in range(60))
+        + "12,3\n"
+    )
     path = tmp_path / "site.csv"
     path.write_text(text)
     notes: list[str] = []
@@ -162,8 +163,11 @@ def test_a_g_test_with_more_cells_than_rows_is_not_tested(tmp_path, clean):
         assert r.method == "g-test" and not r.tested and not r.rejected
         assert r.note.startswith("too few rows for the G-test") and "fewer than 5 a cell" in r.note
     others = [r for r in found if r not in pair]
-    assert verdicts(others) == [v for v, r in zip(verdicts(clean), clean, strict=True)
-                                if "fitness_base" not in (r.independence.a, r.independence.b)]
+    assert verdicts(others) == [
+        v
+        for v, r in zip(verdicts(clean), clean, strict=True)
+        if "fitness_base" not in (r.independence.a, r.independence.b)
+    ]
 
 
 # --- 3. huge values ---------------------------------------------------------------------------

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import pytest
 from clirunner import Run, dagward
-
 from dagward.cli import main
 from dagward.report import ruledoc
 from dagward.rules import ALL_RULES

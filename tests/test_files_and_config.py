@@ -21,7 +21,6 @@ from pathlib import Path
 
 import pytest
 from clirunner import ROOT, dagward
-
 from dagward.fileio import ReadOnlyFile, write_atomic
 
 CYCLE = (ROOT / "samples" / "broken" / "cycle.dag").read_text()

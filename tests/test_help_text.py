@@ -6,7 +6,6 @@ from __future__ import annotations
 import argparse
 
 import pytest
-
 from dagward.cli import COMMANDS, build_parser
 
 # Accepted for old scripts but no longer shown: the output it asked for is the default.

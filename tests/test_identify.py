@@ -16,10 +16,6 @@ from itertools import product as cartesian
 import networkx as nx
 import numpy as np
 import pytest
-from helpers.diagrams import describe, random_diagram
-from helpers.identify_oracles import districts, oracle_instrument_sets, oracle_projection
-from helpers.scm import BinaryModel, Observed, evaluate, interventional
-
 from dagward.causal import (
     adjustment_exists,
     front_door_set,
@@ -39,9 +35,17 @@ from dagward.causal.estimand import (
     simplify,
     to_json,
 )
-from dagward.causal.identify import Hedge, general_identification, identify_effect, latent_projection
+from dagward.causal.identify import (
+    Hedge,
+    general_identification,
+    identify_effect,
+    latent_projection,
+)
 from dagward.causal.instruments import Instrument, instruments
 from dagward.report.estimand import render_estimand
+from helpers.diagrams import describe, random_diagram
+from helpers.identify_oracles import districts, oracle_instrument_sets, oracle_projection
+from helpers.scm import BinaryModel, Observed, evaluate, interventional
 
 
 def dag(

@@ -5,7 +5,6 @@ from __future__ import annotations
 import json
 
 from clirunner import ROOT, dagward
-
 from dagward.causal.estimand import from_json, front_door_formula
 from dagward.causal.identify import identify_effect
 from dagward.config import Settings

@@ -242,8 +242,12 @@ def test_missing_column_and_bad_data(tmp_path):
     assert "samples/wellness.dag:12:18: error [missing-column] `age`" in run.err
     assert "Not tested (4):" in run.out  # in a table of their own, after the tested ones
     untested = table_rows(run.out, 1)
-    assert [c[0] for c in untested] == ["age and fitness_base", "age and shift_work",
-                                        "enrolled and sick_days", "fitness_base and sick_days"]
+    assert [c[0] for c in untested] == [
+        "age and fitness_base",
+        "age and shift_work",
+        "enrolled and sick_days",
+        "fitness_base and sick_days",
+    ]
     assert all(c[-1] == "not in the data: `age`" for c in untested)
     assert [c[0] for c in table_rows(run.out, 0)] == ["enrolled and shift_work",
                                                       "fitness_12m and shift_work"]  # fmt: skip

@@ -19,11 +19,10 @@ import pytest
 
 pytest.importorskip("pygls", reason="the `lsp` extra is not installed")
 import pytest_lsp  # noqa: E402
-from lsprotocol import types  # noqa: E402
-from pytest_lsp import ClientServerConfig, LanguageClient  # noqa: E402
-
 from dagward.lsp import RenameRefused, completion_words, occurrences, rename_spans  # noqa: E402
 from dagward.syntax import parse_source  # noqa: E402
+from lsprotocol import types  # noqa: E402
+from pytest_lsp import ClientServerConfig, LanguageClient  # noqa: E402
 
 DIAGRAM = """\
 title "School breakfast and test scores"
@@ -314,7 +313,12 @@ async def test_hover_definition_rename_completion_formatting(client: LanguageCli
         types.CompletionParams(text_document=doc, position=types.Position(line=ADJUST, character=2))
     )
     assert {i.label for i in items.items} == {
-        "exposure", "outcome", "adjust", "effect", "mediator", "restricted"
+        "exposure",
+        "outcome",
+        "adjust",
+        "effect",
+        "mediator",
+        "restricted",
     }
     items = await client.text_document_completion_async(
         types.CompletionParams(
@@ -476,7 +480,6 @@ def test_hover_paths_match_a_brute_force_oracle():
     import random
 
     import networkx as nx
-
     from dagward.engine import lint_source
     from dagward.lsp import PATHS_SHOWN, hover_markdown
 

@@ -107,8 +107,9 @@ def test_an_added_arrow_breaks_the_independence_it_crosses(runs) -> None:
         wider.add_edge(tail, head)
         assert nx.is_directed_acyclic_graph(wider)
         assert not nx.is_d_separator(wider, {tail}, {head}, set(target.given))
-        data = simulate_linear_gaussian(wider, N_ROWS, seed=2000 + seed,
-                                        coefficients={(tail, head): 0.6})
+        data = simulate_linear_gaussian(
+            wider, N_ROWS, seed=2000 + seed, coefficients={(tail, head): 0.6}
+        )
         results = run_tests(Table.from_columns(data), independencies)
         broken = results[independencies.index(target)]
         assert broken.rejected, (seed, target, broken)

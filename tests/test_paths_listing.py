@@ -15,9 +15,8 @@ import random
 import networkx as nx
 import pytest
 from clirunner import dagward
-from test_causal_oracle import blocked
-
 from dagward.causal.paths import FORWARD_TRIES, enumerate_paths, open_paths, simple_paths
+from test_causal_oracle import blocked
 
 
 def dense_dag(n: int, p: float, seed: int) -> nx.DiGraph:

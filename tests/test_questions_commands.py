@@ -71,9 +71,11 @@ def test_check_covariates_judges_the_question_asked():
 def test_json_and_sarif_reports_carry_the_new_rules(tmp_path):
     run = dagward("check", "--format", "json", "samples/walking_group.dag")
     doc = json.loads(run.out)
-    rules = {f["rule"] for f in doc["findings"]} if "findings" in doc else {
-        f["rule"] for file in doc["files"] for f in file["findings"]
-    }
+    rules = (
+        {f["rule"] for f in doc["findings"]}
+        if "findings" in doc
+        else {f["rule"] for file in doc["files"] for f in file["findings"]}
+    )
     assert {"exposure-induced-confounder", "needs-g-methods", "open-biasing-path"} <= rules
     run = dagward("check", "--format", "sarif", "samples/clinic_sample.dag")
     sarif = json.loads(run.out)

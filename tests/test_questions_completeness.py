@@ -51,13 +51,20 @@ def question_case(draw):
     return case, effect, M, R
 
 
-@settings(max_examples=2500, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=1200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(question_case())
 def test_declared_set_valid_for_question_iff_no_validity_rule_fires(drawn):
     case, effect, M, R = drawn
     text = to_dag_text(
-        case.G, case.observed, case.measured, case.X, case.Y, case.Z,
-        effect=effect, mediator=M, restricted=R,
+        case.G,
+        case.observed,
+        case.measured,
+        case.X,
+        case.Y,
+        case.Z,
+        effect=effect,
+        mediator=M,
+        restricted=R,
     )
     result = lint_source(text, "random.dag")
     assert result.causal_ran, (text, result.findings)
@@ -84,9 +91,7 @@ def test_adjustment_json_lists_sets_valid_with_the_restriction(drawn):
     R = frozenset(R) - case.Y
     if not R:
         return
-    text = to_dag_text(
-        case.G, case.observed, case.measured, case.X, case.Y, case.Z, restricted=R
-    )
+    text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z, restricted=R)
     result = lint_source(text, "random.dag")
     assert result.causal_ran
     verdict = Verdict(result.diagram, result.diagram.analyses[0])

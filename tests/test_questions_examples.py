@@ -5,7 +5,6 @@ Structures are recalled from the cited works (from memory)."""
 from __future__ import annotations
 
 import networkx as nx
-
 from dagward.causal import hidden_node_name
 from dagward.causal.questions import (
     EXPOSURE_MEDIATOR,

@@ -14,33 +14,7 @@ criterion (Pearl & Robins 1995).  All from memory.
 from __future__ import annotations
 
 import networkx as nx
-from helpers.question_oracles import (
-    allowed_at,
-    directed_paths,
-    oracle_induced,
-    oracle_natural_covariates_exist,
-    oracle_odds_ratio_ok,
-    oracle_recoverable,
-    oracle_recovery_ok,
-    oracle_sequential,
-    oracle_sets_given,
-    oracle_single_set,
-    stage_holds,
-)
 import pytest
-from hypothesis import HealthCheck, given, note, settings
-from hypothesis import strategies as st
-from helpers.oracle import (
-    blocked,
-    causal,
-    collider_reaching,
-    oracle_confounding,
-    oracle_forbidden,
-    oracle_valid,
-    random_dag,
-    simple_paths,
-)
-
 from dagward.causal import collider_bias_paths, is_hidden
 from dagward.causal.questions import (
     EXPOSURE_MEDIATOR,
@@ -54,6 +28,31 @@ from dagward.causal.questions import (
     selection_verdict,
     sequential_verdict,
 )
+from helpers.oracle import (
+    blocked,
+    causal,
+    collider_reaching,
+    oracle_confounding,
+    oracle_forbidden,
+    oracle_valid,
+    random_dag,
+    simple_paths,
+)
+from helpers.question_oracles import (
+    allowed_at,
+    directed_paths,
+    oracle_induced,
+    oracle_natural_covariates_exist,
+    oracle_odds_ratio_ok,
+    oracle_recoverable,
+    oracle_recovery_ok,
+    oracle_sequential,
+    oracle_sets_given,
+    oracle_single_set,
+    stage_holds,
+)
+from hypothesis import HealthCheck, given, note, settings
+from hypothesis import strategies as st
 
 MANY = settings(max_examples=700, deadline=None, suppress_health_check=list(HealthCheck))
 SOME = settings(max_examples=600, deadline=None, suppress_health_check=list(HealthCheck))

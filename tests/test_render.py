@@ -461,8 +461,11 @@ def test_png_dpi_scales_the_raster_and_graphviz_succeeds(tmp_path):
     done = subprocess.run(["dot", *options, "-Tpng", "-Gdpi=72"], input=text.encode(),
                           capture_output=True)  # fmt: skip
     assert done.returncode == 0 and png_size(done.stdout) == sizes[72]
-    plain = subprocess.run(["dot", "-Tpng"], capture_output=True,
-                           input=render_text("samples/wellness.dag", "--format", "dot").encode())
+    plain = subprocess.run(
+        ["dot", "-Tpng"],
+        capture_output=True,
+        input=render_text("samples/wellness.dag", "--format", "dot").encode(),
+    )
     assert plain.returncode == 0 and plain.stdout.startswith(MAGIC["png"])  # .dot output too
 
 
@@ -486,7 +489,7 @@ def test_no_caption_and_font(bidirected):
     with_caption = render_text(str(bidirected), "--format", "dot")
     assert "hidden common cause" in with_caption
     bare = render_text(str(bidirected), "--format", "dot", "--no-caption")
-    assert "label=\"" not in bare.splitlines()[1] and "hidden common cause" not in bare
+    assert 'label="' not in bare.splitlines()[1] and "hidden common cause" not in bare
     mmd = render_text(str(bidirected), "--format", "mmd", "--no-caption")
     assert "key[" not in mmd and "hidden common cause" not in mmd
     fonted = render_text(str(bidirected), "--format", "dot", "--font", "DejaVu Sans")
@@ -594,7 +597,7 @@ def test_mermaid_keeps_titles_and_labels_with_markup_characters(tmp_path):
 
     assert lines[1].startswith("title: ")
     # a YAML double-quoted scalar with only \\ and \" escapes reads like a JSON string
-    assert json.loads(lines[1][len("title: "):]) == title
+    assert json.loads(lines[1][len("title: ") :]) == title
     label = re.search(r'v0\("(.*)"\)', mmd).group(1)
     assert not set(label.replace("<br/>", "")) & set('<>&"')  # all as entity codes
     assert _mermaid_unescape(label.replace("<br/>", "\n")) == "A & B <b>\n(a)"
@@ -626,7 +629,7 @@ def _pictures():
         names = [f"v{i}" for i in range(n)]
         cuts = sorted(r.sample(range(1, n), 3))
         bounds = [0, *cuts, n]
-        lines = [f"period p{j}: " + ", ".join(names[bounds[j]:bounds[j + 1]]) for j in range(4)]
+        lines = [f"period p{j}: " + ", ".join(names[bounds[j] : bounds[j + 1]]) for j in range(4)]
         lines += [f"{names[i]} -> {names[j]}" for i in range(n) for j in range(i + 1, n)
                   if r.random() < 0.25]  # fmt: skip
         lines += [f"{names[0]} -> {names[-1]}", "analysis {", f"  exposure: {names[cuts[0]]}",

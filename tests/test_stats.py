@@ -82,8 +82,9 @@ def test_partial_correlation_is_nan_when_x_is_determined_by_z() -> None:
     assert math.isnan(partial_correlation(np.ones(100), x))
 
 
-@pytest.mark.parametrize(("r", "n", "k"), [(0.1, 403, 0), (-0.25, 60, 2), (0.0, 10, 0),
-                                           (0.6, 1000, 5)])
+@pytest.mark.parametrize(
+    ("r", "n", "k"), [(0.1, 403, 0), (-0.25, 60, 2), (0.0, 10, 0), (0.6, 1000, 5)]
+)
 def test_fisher_z_against_scipy_norm(r: float, n: int, k: int) -> None:
     z, p = fisher_z_test(r, n, k)
     expected_z = 0.5 * math.log((1 + r) / (1 - r)) * math.sqrt(n - k - 3)
@@ -145,8 +146,9 @@ def test_spearman_partial_is_partial_correlation_of_ranks() -> None:
     table = Table.from_columns(dict(zip(names, data.T, strict=True)))
     (result,) = run_tests(table, [Independence("a", "b", ("c", "d"))], method="spearman")
     ranks = np.column_stack([sps.rankdata(col) for col in data.T])
-    assert result.effect == pytest.approx(partial_correlation(ranks[:, 0], ranks[:, 1],
-                                                              ranks[:, 2:]), abs=1e-10)
+    assert result.effect == pytest.approx(
+        partial_correlation(ranks[:, 0], ranks[:, 1], ranks[:, 2:]), abs=1e-10
+    )
 
 
 # --------------------------------------------------------------------------
@@ -170,8 +172,9 @@ def test_g_test_matches_chi2_contingency_per_stratum() -> None:
     total_g, total_df = 0.0, 0
     for s in range(4):
         sel = strata == s
-        result = sps.chi2_contingency(contingency(x[sel], y[sel]), lambda_="log-likelihood",
-                                      correction=False)
+        result = sps.chi2_contingency(
+            contingency(x[sel], y[sel]), lambda_="log-likelihood", correction=False
+        )
         total_g += result.statistic
         total_df += result.dof
     assert g == pytest.approx(total_g, rel=1e-10)
@@ -188,8 +191,9 @@ def test_g_test_uses_observed_levels_and_skips_tiny_strata() -> None:
     expected = 0.0
     for rows in (slice(0, 6), slice(6, 12)):  # strata "a" and "b"
         table = contingency(x[rows], y[rows])
-        expected += sps.chi2_contingency(table, lambda_="log-likelihood",
-                                         correction=False).statistic
+        expected += sps.chi2_contingency(
+            table, lambda_="log-likelihood", correction=False
+        ).statistic
     assert df == (3 - 1) * (2 - 1) + (2 - 1) * (2 - 1)
     assert g == pytest.approx(expected, rel=1e-10)
 
@@ -218,8 +222,9 @@ def test_categorical_pair_runs_g_test_with_binned_numeric_conditioning() -> None
     group = np.where(rng.random(n) < 0.5, "day", "night")
     y = rng.normal(size=n) + 0.5 * (group == "night")
     table = Table.from_columns({"group": group, "y": y, "z": z, "site": rng.integers(0, 3, n)})
-    dep, strat = run_tests(table, [Independence("group", "y"),
-                                   Independence("group", "y", ("site", "z"))])
+    dep, strat = run_tests(
+        table, [Independence("group", "y"), Independence("group", "y", ("site", "z"))]
+    )
     assert dep.method == "g-test" and dep.df == 4  # y cut at quintiles: 5 x 2 levels
     assert dep.rejected and dep.ci_low is None
     # independent construction: y quintiles, strata = site (3 values) x z quintiles
@@ -288,8 +293,9 @@ def test_holm_matches_the_step_down_definition_on_random_vectors() -> None:
         pvalues = list(rng.beta(0.3, 1.0, size=m))  # many small p-values
         adjusted = holm(pvalues)
         for alpha in rng.uniform(0.001, 0.2, size=5):
-            assert {i for i, a in enumerate(adjusted) if a <= alpha} == \
-                holm_rejects(pvalues, float(alpha))
+            assert {i for i, a in enumerate(adjusted) if a <= alpha} == holm_rejects(
+                pvalues, float(alpha)
+            )
         assert all(a >= p for a, p in zip(adjusted, pvalues, strict=True))
         assert max(adjusted) <= 1.0
 
@@ -297,8 +303,12 @@ def test_holm_matches_the_step_down_definition_on_random_vectors() -> None:
 def test_holm_runs_across_all_tests_of_a_run() -> None:
     data = correlated(300, 4, seed=30)
     table = Table.from_columns(dict(zip("abcd", data.T, strict=True)))
-    tests = [Independence("a", "b"), Independence("a", "c", ("d",)),
-             Independence("b", "d"), Independence("a", "zzz")]
+    tests = [
+        Independence("a", "b"),
+        Independence("a", "c", ("d",)),
+        Independence("b", "d"),
+        Independence("a", "zzz"),
+    ]
     results = run_tests(table, tests)
     expected = holm([r.p for r in results])
     assert [r.p_adjusted for r in results[:3]] == pytest.approx(expected[:3])
@@ -319,12 +329,17 @@ def test_complete_cases_per_test_and_order_kept(method: str) -> None:
     data[rng.choice(500, 25, replace=False), 3] = np.nan
     data[rng.choice(500, 10, replace=False), 0] = np.nan
     table = Table.from_columns(dict(zip("abcd", data.T, strict=True)))
-    tests = [Independence("a", "b", ("c",)), Independence("b", "c"),
-             Independence("b", "c", ("d",)), Independence("a", "b", ("c", "d")),
-             Independence("d", "b")]
+    tests = [
+        Independence("a", "b", ("c",)),
+        Independence("b", "c"),
+        Independence("b", "c", ("d",)),
+        Independence("a", "b", ("c", "d")),
+        Independence("d", "b"),
+    ]
     seen = []
-    results = run_tests(table, tests, method=method,
-                        progress=lambda done, total: seen.append((done, total)))
+    results = run_tests(
+        table, tests, method=method, progress=lambda done, total: seen.append((done, total))
+    )
     assert seen == [(1, 5), (2, 5), (3, 5), (4, 5), (5, 5)]
     for test, result in zip(tests, results, strict=True):
         assert result.independence == test
@@ -334,8 +349,9 @@ def test_complete_cases_per_test_and_order_kept(method: str) -> None:
         if method == "spearman":
             sub = np.column_stack([sps.rankdata(col) for col in sub.T])
         assert result.n == int(keep.sum())
-        assert result.effect == pytest.approx(partial_correlation(sub[:, 0], sub[:, 1],
-                                                                  sub[:, 2:]), abs=1e-10)
+        assert result.effect == pytest.approx(
+            partial_correlation(sub[:, 0], sub[:, 1], sub[:, 2:]), abs=1e-10
+        )
     assert results[1].n == 460 and results[4].n == 475
 
 
@@ -400,17 +416,21 @@ def test_missing_file(tmp_path: Path) -> None:
         load_table(tmp_path / "nothere.csv")
 
 
-@pytest.mark.parametrize(("content", "message"), [
-    ("", "empty file"),
-    ("\n\n", "empty file"),
-    ("age,sick_days\n", "no data rows"),
-    ("age,age\n1,2\n", "`age` appears twice"),
-    ("age,,x\n1,2,3\n", "empty column name"),
-    (b"age,city\n1,M\xfcnchen\n", "not UTF-8"),
-    ('age,note\n1,"unterminated\n', "malformed CSV"),
-])
-def test_unusable_files_raise_data_error_naming_the_file(tmp_path: Path, content: str | bytes,
-                                                         message: str) -> None:
+@pytest.mark.parametrize(
+    ("content", "message"),
+    [
+        ("", "empty file"),
+        ("\n\n", "empty file"),
+        ("age,sick_days\n", "no data rows"),
+        ("age,age\n1,2\n", "`age` appears twice"),
+        ("age,,x\n1,2,3\n", "empty column name"),
+        (b"age,city\n1,M\xfcnchen\n", "not UTF-8"),
+        ('age,note\n1,"unterminated\n', "malformed CSV"),
+    ],
+)
+def test_unusable_files_raise_data_error_naming_the_file(
+    tmp_path: Path, content: str | bytes, message: str
+) -> None:
     path = write(tmp_path, "bad.csv", content)
     with pytest.raises(DataError, match=message) as info:
         load_table(path)
@@ -423,16 +443,25 @@ def test_directory_is_refused(tmp_path: Path) -> None:
 
 
 def test_reading_types_missing_values_and_header(tmp_path: Path) -> None:
-    path = write(tmp_path, "t.csv",
-                 "\ufeff age , shift,site,flag,score,empty\n"
-                 "30,1,north,True,1.5,\n"
-                 "NA,0,south,False,,\n"
-                 "41,1,,True,2.5,\n"
-                 '52,0,"east, annex",False,inf,\n')
+    path = write(
+        tmp_path,
+        "t.csv",
+        "\ufeff age , shift,site,flag,score,empty\n"
+        "30,1,north,True,1.5,\n"
+        "NA,0,south,False,,\n"
+        "41,1,,True,2.5,\n"
+        '52,0,"east, annex",False,inf,\n',
+    )
     table = load_table(path)
     assert table.columns() == ("age", "shift", "site", "flag", "score", "empty")
-    assert [table.is_categorical(c) for c in table.columns()] == \
-        [False, False, True, True, False, False]
+    assert [table.is_categorical(c) for c in table.columns()] == [
+        False,
+        False,
+        True,
+        True,
+        False,
+        False,
+    ]
     np.testing.assert_array_equal(np.isnan(table.numeric("age")), [False, True, False, False])
     np.testing.assert_array_equal(np.isnan(table.numeric("score")), [False, True, False, True])
     codes, levels = table.codes("site")
@@ -444,15 +473,17 @@ def test_reading_types_missing_values_and_header(tmp_path: Path) -> None:
 
 
 def test_all_missing_constant_and_too_few_give_notes_not_tracebacks() -> None:
-    table = Table.from_columns({
-        "x": [1.0, 2.0, 3.0, 4.0, 5.0, 6.0],
-        "y": [2.0, 1.0, 4.0, 3.0, 6.0, 5.0],
-        "z": [1.0, 0.0, 1.0, 1.0, 0.0, 0.0],
-        "w": [7.0, 7.0, 7.0, 7.0, 7.0, 7.0],
-        "nothing": [np.nan] * 6,
-        "cat": ["a", "a", "a", "a", "a", "a"],
-        "cat2": ["u", "v", "u", "v", "u", None],
-    })
+    table = Table.from_columns(
+        {
+            "x": [1.0, 2.0, 3.0, 4.0, 5.0, 6.0],
+            "y": [2.0, 1.0, 4.0, 3.0, 6.0, 5.0],
+            "z": [1.0, 0.0, 1.0, 1.0, 0.0, 0.0],
+            "w": [7.0, 7.0, 7.0, 7.0, 7.0, 7.0],
+            "nothing": [np.nan] * 6,
+            "cat": ["a", "a", "a", "a", "a", "a"],
+            "cat2": ["u", "v", "u", "v", "u", None],
+        }
+    )
     tests = [
         Independence("x", "nothing"),
         Independence("x", "w"),
@@ -489,10 +520,13 @@ def test_missing_pandas_gives_stats_unavailable(monkeypatch: pytest.MonkeyPatch)
 def test_importing_the_module_loads_no_numeric_library() -> None:
     import subprocess
 
-    code = ("import sys, dagward.stats, dagward.forest; "
-            "print(sorted(m for m in ('numpy', 'pandas', 'scipy') if m in sys.modules))")
-    out = subprocess.run([sys.executable, "-c", code], cwd=ROOT, capture_output=True,
-                         text=True, check=True)
+    code = (
+        "import sys, dagward.stats, dagward.forest; "
+        "print(sorted(m for m in ('numpy', 'pandas', 'scipy') if m in sys.modules))"
+    )
+    out = subprocess.run(
+        [sys.executable, "-c", code], cwd=ROOT, capture_output=True, text=True, check=True
+    )
     assert out.stdout.strip() == "[]"
 
 
@@ -502,10 +536,15 @@ def test_importing_the_module_loads_no_numeric_library() -> None:
 
 def test_forest_plot_is_xml_with_one_labelled_row_per_test() -> None:
     data = correlated(400, 4, seed=2)
-    table = Table.from_columns({**dict(zip("abcd", data.T, strict=True)),
-                                "g": np.where(data[:, 0] > 0, "yes", "no")})
-    tests = [Independence("a", "b", ("c",)), Independence("a", "d"),
-             Independence("g", "c", ("d",)), Independence("a", "missing & <odd>")]
+    table = Table.from_columns(
+        {**dict(zip("abcd", data.T, strict=True)), "g": np.where(data[:, 0] > 0, "yes", "no")}
+    )
+    tests = [
+        Independence("a", "b", ("c",)),
+        Independence("a", "d"),
+        Independence("g", "c", ("d",)),
+        Independence("a", "missing & <odd>"),
+    ]
     results = run_tests(table, tests)
     svg = forest_plot_svg(results, title="Wellness & sick days", min_effect=0.1)
     root = ET.fromstring(svg)
@@ -533,11 +572,16 @@ def test_forest_plot_is_xml_with_one_labelled_row_per_test() -> None:
 
 def _forest_of_the_demo() -> str:
     data = correlated(400, 4, seed=2)
-    table = Table.from_columns({**dict(zip("abcd", data.T, strict=True)),
-                                "g": np.where(data[:, 0] > 0, "yes", "no")})
-    tests = [Independence("a", "b", ("c",)), Independence("a", "d"),
-             Independence("g", "c", ("d",)), Independence("b", "d", ("a", "c")),
-             Independence("a", "missing")]
+    table = Table.from_columns(
+        {**dict(zip("abcd", data.T, strict=True)), "g": np.where(data[:, 0] > 0, "yes", "no")}
+    )
+    tests = [
+        Independence("a", "b", ("c",)),
+        Independence("a", "d"),
+        Independence("g", "c", ("d",)),
+        Independence("b", "d", ("a", "c")),
+        Independence("a", "missing"),
+    ]
     return forest_plot_svg(run_tests(table, tests), title="Forest", min_effect=0.1)
 
 
@@ -627,15 +671,15 @@ def test_demo_data_behaves_as_documented() -> None:
 
 def test_simulation_follows_the_given_weights() -> None:
     graph = nx.DiGraph([("u", "v"), ("v", "w")])
-    values = simulate_linear_gaussian(graph, 50_000, 3, coefficients={("u", "v"): 0.6,
-                                                                     ("v", "w"): -0.5},
-                                      standardize=False)
+    values = simulate_linear_gaussian(
+        graph, 50_000, 3, coefficients={("u", "v"): 0.6, ("v", "w"): -0.5}, standardize=False
+    )
     slope = np.polyfit(values["u"], values["v"], 1)[0]
     assert slope == pytest.approx(0.6, abs=0.02)
     assert np.polyfit(values["v"], values["w"], 1)[0] == pytest.approx(-0.5, abs=0.02)
-    again = simulate_linear_gaussian(graph, 50_000, 3, coefficients={("u", "v"): 0.6,
-                                                                    ("v", "w"): -0.5},
-                                     standardize=False)
+    again = simulate_linear_gaussian(
+        graph, 50_000, 3, coefficients={("u", "v"): 0.6, ("v", "w"): -0.5}, standardize=False
+    )
     np.testing.assert_array_equal(values["w"], again["w"])
 
 

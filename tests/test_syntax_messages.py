@@ -7,7 +7,6 @@ variables) and the keys of the questions beyond the total effect.
 from __future__ import annotations
 
 import pytest
-
 from dagward.fmt import format_source
 from dagward.syntax import parse_source
 
@@ -132,7 +131,9 @@ def test_unknown_key_lists_every_key():
 # --- the keys of the questions beyond the total effect ---------------------------------------
 
 
-@pytest.mark.parametrize("kind", ["total", "controlled-direct", "natural-direct", "natural-indirect"])
+@pytest.mark.parametrize(
+    "kind", ["total", "controlled-direct", "natural-direct", "natural-indirect"]
+)
 def test_effect_kinds_parse_with_their_spans(kind):
     text = block("exposure: bike_commute", "outcome: sick_days", f"effect: {kind}",
                  "mediator: fitness, age", "restricted: in_survey")  # fmt: skip

@@ -215,14 +215,18 @@ def test_unmeasured_confounding_says_how_the_effect_is_still_identified():
         assert verdict.route == route, name
         assert verdict.to_dict()["route"] == route
         (finding,) = [
-            f for f in lint_source(text, f"{name}.dag").findings if f.rule == "unmeasured-confounding"
+            f
+            for f in lint_source(text, f"{name}.dag").findings
+            if f.rule == "unmeasured-confounding"
         ]
         assert words in finding.message, (name, finding.message)
 
 
 def test_unmeasured_confounding_names_the_instruments():
     text = _analysis_text("z -> x -> y\nx <-> y\n")
-    (finding,) = [f for f in lint_source(text, "iv.dag").findings if f.rule == "unmeasured-confounding"]
+    (finding,) = [
+        f for f in lint_source(text, "iv.dag").findings if f.rule == "unmeasured-confounding"
+    ]
     assert "instruments for the exposure: `z`" in finding.message
     assert "not identified" in finding.message
 

@@ -64,7 +64,9 @@ def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str],
 # linter/causal/indexed.py: networkx empties it when the graph changes).
 
 
-def _per_graph(G: nx.DiGraph, kind: str, sets: tuple[frozenset[str], ...], compute) -> frozenset[str]:
+def _per_graph(
+    G: nx.DiGraph, kind: str, sets: tuple[frozenset[str], ...], compute
+) -> frozenset[str]:
     """Memoise ``compute()`` for this graph, question kind and node sets."""
     cache = graph_cache(G)
     if cache is None:
@@ -151,7 +153,9 @@ def proper_backdoor_graph(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> 
     return H
 
 
-def is_valid_adjustment(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str]) -> bool:
+def is_valid_adjustment(
+    G: nx.DiGraph, X: Iterable[str], Y: Iterable[str], Z: Iterable[str]
+) -> bool:
     """The generalised adjustment criterion (not the back-door criterion).
 
     Z is valid iff Z ∩ forb(X,Y) = ∅ and Z d-separates X and Y in the proper
@@ -230,7 +234,20 @@ def open_noncausal_path(
 class _Query:
     """One question's X, Y and Z as mark arrays over the graph's index, with An(Z)."""
 
-    __slots__ = ("G", "X", "Y", "Z", "ix", "xs", "ys", "x_mask", "y_mask", "inz", "anc", "anc_names")
+    __slots__ = (
+        "G",
+        "X",
+        "Y",
+        "Z",
+        "ix",
+        "xs",
+        "ys",
+        "x_mask",
+        "y_mask",
+        "inz",
+        "anc",
+        "anc_names",
+    )
 
     def __init__(self, G: nx.DiGraph, X: set[str], Y: set[str], Z: set[str]):
         self.G, self.X, self.Y, self.Z = G, X, Y, Z
@@ -243,7 +260,10 @@ class _Query:
     def genuine(self, path: list[str], colliders: set[str] | None) -> bool:
         """Proper, non-causal, open given Z and (when asked) through a collider in ``colliders``."""
         G = self.G
-        if not (_is_proper_noncausal(G, path, self.X, self.Y) and path_is_open(G, path, self.Z, self.anc_names)):
+        if not (
+            _is_proper_noncausal(G, path, self.X, self.Y)
+            and path_is_open(G, path, self.Z, self.anc_names)
+        ):
             return False
         return colliders is None or _collider_in(G, path, colliders) is not None
 
@@ -278,7 +298,9 @@ class _MeetTrees:
         ix = q.ix
         self.tree_x, self.tree_y = new_tree(ix), new_tree(ix)
         # Outcomes are passed through: a proper path may visit one on its way.
-        _state_search(ix, start_roots(ix, q.xs, q.x_mask), q.inz, q.anc, None, q.x_mask, tree=self.tree_x)
+        _state_search(
+            ix, start_roots(ix, q.xs, q.x_mask), q.inz, q.anc, None, q.x_mask, tree=self.tree_x
+        )
         xy = bytearray(q.x_mask)
         for y in q.ys:
             xy[y] = 1
@@ -311,7 +333,10 @@ def _meet_at_collider(q: _Query, targets: _Targets, trees: _MeetTrees):
     """
     ix = q.ix
     for i in targets.in_name_order(ix, trees.meet_at):
-        walk = walk_to(ix, trees.tree_x, i, DOWN) + list(reversed(walk_to(ix, trees.tree_y, i, DOWN)))[1:]
+        walk = (
+            walk_to(ix, trees.tree_x, i, DOWN)
+            + list(reversed(walk_to(ix, trees.tree_y, i, DOWN)))[1:]
+        )
         path = _first_good(_shortcuts(walk), lambda p: q.genuine(p, targets.view))
         if path is not None:
             return path
@@ -436,7 +461,7 @@ def fixable_confounding_path(
     for _ in range(rounds):
         first: list[list[str]] = []
 
-        def take(walk: list[str]) -> list[str] | None:
+        def take(walk: list[str], first: list[list[str]] = first) -> list[str] | None:
             path = shortcut_walk(walk)
             if any(fix_mask[index[v]] for v in path[1:-1]):
                 return path
@@ -493,9 +518,7 @@ def _through_candidates(G, X, Y, Z, candidates, limit):
         tried += 1
         if up is not None:
             avoid = blocked | set(up[1:])
-            rest = _directed_chain(G, f, set(Y), avoid) or confounding_path(
-                G, {f}, Y, avoid - {f}
-            )
+            rest = _directed_chain(G, f, set(Y), avoid) or confounding_path(G, {f}, Y, avoid - {f})
             if rest is not None:
                 path = up[::-1] + list(rest[1:])
                 if _is_open_confounding(G, path, X, Y, Z):

@@ -38,7 +38,6 @@ UP = 0  # entered from a child, i.e. against the arrow
 DOWN = 1  # entered from a parent, i.e. along the arrow
 
 
-
 def _check_sets(G: nx.DiGraph, xs, ys, zs) -> tuple[set[str], set[str], set[str]]:
     xs, ys, zs = _as_set(G, xs), _as_set(G, ys), _as_set(G, zs)
     clash = (xs | ys) & zs
@@ -285,7 +284,9 @@ def b_in(G: nx.DiGraph, a: str, b: str) -> bool:
     return b in G._succ[a]
 
 
-def path_is_open(G: nx.DiGraph, path: list[str], zs: set[str], anc_z: set[str] | None = None) -> bool:
+def path_is_open(
+    G: nx.DiGraph, path: list[str], zs: set[str], anc_z: set[str] | None = None
+) -> bool:
     """Definition: every inner non-collider is outside Z, every collider in An(Z)."""
     if anc_z is None:
         anc_z = ancestors(G, zs) if zs else set()
@@ -363,7 +364,9 @@ def _connected_cut(
     """True when some y is reachable from xs by the Bayes-ball moves of
     :func:`_state_search` in G without the arrows of ``cut``."""
     inz = ix.mask(zs)
-    return connected_marks(ix, ix.ids(xs), ix.mask(ys), inz, ancestor_mask(ix, zs, cut), cut, proper)
+    return connected_marks(
+        ix, ix.ids(xs), ix.mask(ys), inz, ancestor_mask(ix, zs, cut), cut, proper
+    )
 
 
 def connected_marks(

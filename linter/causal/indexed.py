@@ -119,7 +119,9 @@ def _compressed(lists: list[array]) -> tuple[array, array]:
 def both(a: bytes | bytearray, b: bytes | bytearray) -> bytearray:
     """Marks set in both (0/1 marks)."""
     n = len(a)
-    return bytearray((int.from_bytes(a, "little") & int.from_bytes(b, "little")).to_bytes(n, "little"))
+    return bytearray(
+        (int.from_bytes(a, "little") & int.from_bytes(b, "little")).to_bytes(n, "little")
+    )
 
 
 def graph_cache(G: nx.DiGraph) -> dict | None:
@@ -144,7 +146,9 @@ def indexed(G: nx.DiGraph) -> Indexed:
     return ix
 
 
-def closure(adjacency: list[array], seeds: Iterable[int], mark: bytearray, bit: int = 1) -> list[int]:
+def closure(
+    adjacency: list[array], seeds: Iterable[int], mark: bytearray, bit: int = 1
+) -> list[int]:
     """Set ``bit`` in ``mark`` on everything reachable from ``seeds`` along
     ``adjacency`` without entering a variable whose mark already has ``bit``
     (pre-marked variables act as walls).  Iterative; returns the variables
@@ -165,7 +169,9 @@ def closure(adjacency: list[array], seeds: Iterable[int], mark: bytearray, bit: 
     return visited
 
 
-def closure_rows(row: Callable[[int], Sequence[int]], seeds: Iterable[int], mark: bytearray) -> bytearray:
+def closure_rows(
+    row: Callable[[int], Sequence[int]], seeds: Iterable[int], mark: bytearray
+) -> bytearray:
     """:func:`closure` (bit 1) along ``row`` (one of :meth:`Indexed.rows`)."""
     stack = []
     for s in seeds:

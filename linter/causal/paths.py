@@ -439,5 +439,3 @@ def _nearest_adjusted_descendant(G: nx.DiGraph, v: str, Z: set[str], above_z) ->
                 nxt.append(c)
         frontier = nxt
     return None
-
-

@@ -40,7 +40,9 @@ Adjacency = Mapping[Hashable, Iterable[Hashable]]
 Neighbours = list[list[int]]
 
 
-def _moral_ids(ix: Indexed, seeds: Iterable[str], cut: SkipEdge = None) -> tuple[Neighbours, list[int]]:
+def _moral_ids(
+    ix: Indexed, seeds: Iterable[str], cut: SkipEdge = None
+) -> tuple[Neighbours, list[int]]:
     """The moral graph of G[An(seeds)] (arrows of ``cut`` removed) over G's index
     numbers, with each family's clique replaced by a hub, and its vertices.
 
@@ -120,7 +122,9 @@ def _reach(nbrs: Neighbours, start: Iterable[int], walls: bytes | bytearray) -> 
     return seen
 
 
-def _close_to(nbrs: Neighbours, seed: Iterable[int], targets: list[int], removable) -> list[int] | None:
+def _close_to(
+    nbrs: Neighbours, seed: Iterable[int], targets: list[int], removable
+) -> list[int] | None:
     """The minimal separator between ``seed``'s side and ``targets`` closest to the seed.
 
     The border of the closure separates; keeping only the border vertices
@@ -509,7 +513,9 @@ def smallest_adjustment_set(
     return None if cut is None else frozenset(ix.names[original[v]] for v in cut)
 
 
-def minimal_separator(G: nx.DiGraph, a: str, b: str, measured: Iterable[str]) -> frozenset[str] | None:
+def minimal_separator(
+    G: nx.DiGraph, a: str, b: str, measured: Iterable[str]
+) -> frozenset[str] | None:
     """An inclusion-minimal d-separating set of measured variables for non-adjacent a, b.
 
     Takes the separator closest to ``a`` in the moral graph of An({a, b});
@@ -526,7 +532,9 @@ def minimal_separator(G: nx.DiGraph, a: str, b: str, measured: Iterable[str]) ->
     return None if sep is None else frozenset(ix.names[v] for v in sep)
 
 
-def implied_independencies(G: nx.DiGraph, measured: Iterable[str]) -> list[tuple[str, str, frozenset[str]]]:
+def implied_independencies(
+    G: nx.DiGraph, measured: Iterable[str]
+) -> list[tuple[str, str, frozenset[str]]]:
     """One (a, b, separator) per non-adjacent measured pair a < b that some measured set separates."""
     names = sorted(set(measured))
     out = []

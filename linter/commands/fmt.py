@@ -153,8 +153,7 @@ def run(args: argparse.Namespace) -> int:
     if not args.quiet:
         wrote = not (args.check or args.diff)
         sys.stderr.write(
-            summary(len(files), len(changed), len(broken), wrote=wrote, refused=len(refused))
-            + "\n"
+            summary(len(files), len(changed), len(broken), wrote=wrote, refused=len(refused)) + "\n"
         )
     if found.bad or refused:
         return 2

@@ -181,7 +181,9 @@ def run(args: argparse.Namespace) -> int:
     for a in analyses:
         clash = (given or set()) & (a.exposure_set | a.outcome_set)
         if clash:
-            raise UsageProblem(f"--given includes an exposure or outcome: {', '.join(sorted(clash))}")
+            raise UsageProblem(
+                f"--given includes an exposure or outcome: {', '.join(sorted(clash))}"
+            )
         reports.append(describe(result.diagram, a, given, args.limit, args.open))
     emit_analyses(args, reports, render_text(args.file, reports, args.limit))
     return 0

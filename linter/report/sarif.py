@@ -54,7 +54,9 @@ SRCROOT = "%SRCROOT%"
 # links keep working from release to release). The GitHub Action sets
 # DAGWARD_PROJECT_URL to the repository the action runs from, which holds
 # docs/rules.md; elsewhere set it to the clone you install from.
-PROJECT_URL = os.environ.get("DAGWARD_PROJECT_URL", "https://github.com/dagward/dagward").rstrip("/")
+PROJECT_URL = os.environ.get("DAGWARD_PROJECT_URL", "https://github.com/dagward/dagward").rstrip(
+    "/"
+)
 DOCS_BRANCH = "main"
 FINGERPRINT_KEY = "dagwardFinding/v1"
 LEVELS = {"error": "error", "warning": "warning", "info": "note"}

@@ -127,6 +127,11 @@ def per_analysis(ctx: Context, rule: Rule, span_of=lambda a: a.header) -> Iterat
             own = verdict.verdict_of(problem)
             sets = own.suggestions() if problem.rule == "open-biasing-path" else None
             yield problem_finding(
-                ctx, rule, span_of(analysis), analysis, verdict, problem,
+                ctx,
+                rule,
+                span_of(analysis),
+                analysis,
+                verdict,
+                problem,
                 suggested_sets=sets or None,
             )

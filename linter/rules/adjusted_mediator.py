@@ -38,6 +38,7 @@ from .base import Context, Rule
 def check(ctx: Context) -> Iterator[Finding]:
     return per_adjusted_variable(ctx, RULE)
 
+
 RULE = Rule(
     name="adjusted-mediator",
     severity="error",

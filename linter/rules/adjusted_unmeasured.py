@@ -45,6 +45,7 @@ def check(ctx: Context) -> Iterator[Finding]:
             declared = ctx.related(unmeasured[n.text].span, f"`{n.text}` declared unmeasured")
             yield problem_finding(ctx, RULE, n.span, analysis, verdict, problem, (declared,))
 
+
 RULE = Rule(
     name="adjusted-unmeasured",
     severity="error",

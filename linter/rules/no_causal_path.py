@@ -39,6 +39,7 @@ from .base import Context, Rule
 def check(ctx: Context) -> Iterator[Finding]:
     return per_analysis(ctx, RULE)
 
+
 RULE = Rule(
     name="no-causal-path",
     severity="warning",

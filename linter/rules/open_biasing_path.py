@@ -39,6 +39,7 @@ from .base import Context, Rule
 def check(ctx: Context) -> Iterator[Finding]:
     return per_analysis(ctx, RULE, adjust_key_span)
 
+
 RULE = Rule(
     name="open-biasing-path",
     severity="error",

@@ -63,9 +63,7 @@ def check(ctx: Context) -> Iterator[Finding]:
         # every key a name has appeared under so far, with its first occurrence there
         first_role: dict[str, dict[str, Name]] = {}
         for entry in analysis.entries:
-            if entry.is_none and any(
-                e.key == "adjust" and e.names for e in analysis.entries
-            ):
+            if entry.is_none and any(e.key == "adjust" and e.names for e in analysis.entries):
                 yield ctx.finding(
                     RULE,
                     entry.span,

@@ -31,8 +31,8 @@ from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
-    from . import RULES_BY_NAME
     from ..wording import did_you_mean as suggestion
+    from . import RULES_BY_NAME
 
     known = sorted(RULES_BY_NAME)
     for allow in allow_comments(ctx.diagram):

@@ -41,6 +41,7 @@ from .base import Context, Rule
 def check(ctx: Context) -> Iterator[Finding]:
     return per_analysis(ctx, RULE)
 
+
 RULE = Rule(
     name="unmeasured-confounding",
     severity="warning",

@@ -5,7 +5,6 @@ from __future__ import annotations
 import random
 
 import networkx as nx
-
 from dagward.causal import hidden_node_name
 
 

@@ -21,10 +21,7 @@ def block(doc: str, label: str) -> str:
 
 
 def data_for(doc: str) -> dict:
-    """Keyword arguments for `lint_source` when the docstring holds a `Data::` table.
-
-    
-    """
+    """Keyword arguments for `lint_source` when the docstring holds a `Data::` table."""
     if "\nData::\n" not in doc:
         return {}
     return {"table": table_from_csv_text(block(doc, "Data"), "data.csv"),

@@ -144,18 +144,19 @@ def oracle_minimal_valid_sets(G, X, Y, candidates) -> list[frozenset[str]]:
         return all(n & z or any(not (c & z) for c in cs) for n, cs in conditions)
 
     found = [
-        frozenset(s)
-        for k in range(len(pool) + 1)
-        for s in combinations(pool, k)
-        if valid(mask(s))
+        frozenset(s) for k in range(len(pool) + 1) for s in combinations(pool, k) if valid(mask(s))
     ]
     return [s for s in found if not any(t < s for t in found)]
 
 
 def oracle_separable(G, a, b, measured) -> list[frozenset[str]]:
     pool = sorted(set(measured) - {a, b})
-    return [frozenset(s) for k in range(len(pool) + 1) for s in combinations(pool, k)
-            if nx.is_d_separator(G, {a}, {b}, set(s))]
+    return [
+        frozenset(s)
+        for k in range(len(pool) + 1)
+        for s in combinations(pool, k)
+        if nx.is_d_separator(G, {a}, {b}, set(s))
+    ]
 
 
 # ---------------------------------------------------------------- strategies
@@ -171,12 +172,16 @@ class Case:
     Z: frozenset[str]
 
     def __repr__(self) -> str:  # readable falsifying examples
-        return (f"Case(edges={sorted(self.G.edges)}, measured={sorted(self.measured)}, "
-                f"X={sorted(self.X)}, Y={sorted(self.Y)}, Z={sorted(self.Z)})")
+        return (
+            f"Case(edges={sorted(self.G.edges)}, measured={sorted(self.measured)}, "
+            f"X={sorted(self.X)}, Y={sorted(self.Y)}, Z={sorted(self.Z)})"
+        )
 
 
 @st.composite
-def random_dag(draw, min_nodes: int = 2, max_nodes: int = 8, max_hidden: int = 2, density: float | None = None):
+def random_dag(
+    draw, min_nodes: int = 2, max_nodes: int = 8, max_hidden: int = 2, density: float | None = None
+):
     """A random DAG over v0..v{n-1} (index order is a topological order), with
     hidden ``<->`` parents and a random unmeasured subset."""
     n = draw(st.integers(min_nodes, max_nodes))
@@ -211,5 +216,3 @@ def analysis_case(draw, max_nodes: int = 8, max_roles: int = 2, **kw) -> Case:
     rest = sorted(measured - X - Y)
     Z = frozenset(draw(st.sets(st.sampled_from(rest), max_size=len(rest))) if rest else set())
     return Case(G, names, measured, X, Y, Z)
-
-

@@ -12,6 +12,7 @@ from __future__ import annotations
 from itertools import combinations
 
 import networkx as nx
+
 from helpers.oracle import oracle_d_separated, oracle_forbidden, oracle_valid
 
 

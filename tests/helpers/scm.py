@@ -16,7 +16,6 @@ from itertools import product as cartesian
 
 import networkx as nx
 import numpy as np
-
 from dagward.causal.estimand import Expr, Prob, Product, Ratio, Sum
 
 
