@@ -393,6 +393,15 @@ def connected_marks(
     # proper: the exposures are never re-entered; otherwise they may be
     # entered along an arrow (entering one against an arrow repeats its start).
     seen_down = bytearray(seen_up) if proper else bytearray(ix.n)
+    return two_stack_reach(children, parents, up_stack, seen_up, seen_down, isy, inz, anc)
+
+
+def two_stack_reach(children, parents, up_stack, seen_up, seen_down, isy, inz, anc) -> bool:
+    """The two-stack Bayes-ball loop (Shachter 1998) shared by every yes/no
+    d-connection test: from the variables on ``up_stack`` (entered against an
+    arrow, marked in ``seen_up``), is a variable marked in ``isy`` reached, given
+    the variables marked in ``inz`` with ancestors ``anc``? Rows are functions,
+    so callers may pass rows with some arrows cut."""
     down_stack: list[int] = []
     while up_stack or down_stack:
         while up_stack:

@@ -34,7 +34,7 @@ from .adjustment import (
     open_noncausal_path,
     proper_backdoor_skip,
 )
-from .dsep import kept_rows
+from .dsep import kept_rows, two_stack_reach
 from .graph import HIDDEN_PREFIX, _as_set, descendants, is_hidden
 from .indexed import Indexed, closure_rows, combine, graph_cache, indexed
 from .separators import _close_to, _separator_search, minimal_adjustment_sets
@@ -48,7 +48,7 @@ def _connected(children: Rows, parents: Rows, n: int, xs: Iterable[int], isy, in
     """Bayes-ball reachability (Shachter 1998) along the given rows: True when some
     variable marked in ``isy`` is d-connected to ``xs`` given the variables marked
     in ``inz`` (``anc`` = their ancestors in the same rows).  The two-stack loop of
-    dagward.causal.dsep.connected_marks, with rows passed in so that graphs with
+    dagward.causal.dsep.two_stack_reach, with rows passed in so that graphs with
     arrows cut into some variables (the sequential criterion) need no copy."""
     seen_up = bytearray(n)
     seen_down = bytearray(n)
@@ -59,41 +59,7 @@ def _connected(children: Rows, parents: Rows, n: int, xs: Iterable[int], isy, in
         if not seen_up[x]:
             seen_up[x] = seen_down[x] = 1
             up_stack.append(x)
-    down_stack: list[int] = []
-    while up_stack or down_stack:
-        while up_stack:
-            v = up_stack.pop()
-            for p in parents(v):
-                if not seen_up[p]:
-                    if isy[p]:
-                        return True
-                    seen_up[p] = 1
-                    if not inz[p]:
-                        up_stack.append(p)
-            for c in children(v):
-                if not seen_down[c]:
-                    if isy[c]:
-                        return True
-                    seen_down[c] = 1
-                    down_stack.append(c)
-        while down_stack:
-            v = down_stack.pop()
-            if not inz[v]:
-                for c in children(v):
-                    if not seen_down[c]:
-                        if isy[c]:
-                            return True
-                        seen_down[c] = 1
-                        down_stack.append(c)
-            if anc[v]:
-                for p in parents(v):
-                    if not seen_up[p]:
-                        if isy[p]:
-                            return True
-                        seen_up[p] = 1
-                        if not inz[p]:
-                            up_stack.append(p)
-    return False
+    return two_stack_reach(children, parents, up_stack, seen_up, seen_down, isy, inz, anc)
 
 
 def _moral(
