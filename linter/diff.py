@@ -55,12 +55,10 @@ ArrowKey = tuple[str, str, str]  # model.arrow_key
 # === data ==============================================================================
 
 
-@dataclass(frozen=True)
-class ArrowChange:
-    """An arrow added (line in the new file) or removed (line in the old file)."""
+class _Keyed:
+    """Reads an arrow's ends from its `model.arrow_key` (`key`)."""
 
     key: ArrowKey
-    line: int
 
     @property
     def source(self) -> str:
@@ -69,6 +67,14 @@ class ArrowChange:
     @property
     def target(self) -> str:
         return self.key[2]
+
+
+@dataclass(frozen=True)
+class ArrowChange(_Keyed):
+    """An arrow added (line in the new file) or removed (line in the old file)."""
+
+    key: ArrowKey
+    line: int
 
     @property
     def bidirected(self) -> bool:
@@ -76,20 +82,12 @@ class ArrowChange:
 
 
 @dataclass(frozen=True)
-class ArrowReversal:
+class ArrowReversal(_Keyed):
     """`target -> source` in the old file became `source -> target` in the new one."""
 
     key: ArrowKey  # the new arrow
     line: int  # in the new file
     old_line: int
-
-    @property
-    def source(self) -> str:
-        return self.key[1]
-
-    @property
-    def target(self) -> str:
-        return self.key[2]
 
     @property
     def old_key(self) -> ArrowKey:
