@@ -29,20 +29,20 @@ from collections.abc import Iterator
 
 from ..findings import Finding
 from ..model import LabelStatement
-from ..wording import did_you_mean as suggestion
+from ..wording import NameHints
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
     known = ctx.diagram.variables
-    names = list(known)
+    hints = NameHints(known)
     for s in ctx.diagram.statements:
         if isinstance(s, LabelStatement) and s.target.text not in known:
             yield ctx.finding(
                 RULE,
                 s.target.span,
                 f"`label` names `{s.target.text}`, which no arrow, `unmeasured` or `period` "
-                f"statement mentions{suggestion(s.target.text, names)}",
+                f"statement mentions{hints.did_you_mean(s.target.text)}",
             )
     for analysis in ctx.diagram.analyses:
         for entry in analysis.entries:
@@ -52,7 +52,7 @@ def check(ctx: Context) -> Iterator[Finding]:
                         RULE,
                         n.span,
                         f"`{n.text}` in `{entry.key}:` of analysis `{analysis.name}` is not a "
-                        f"variable of the diagram{suggestion(n.text, names)}",
+                        f"variable of the diagram{hints.did_you_mean(n.text)}",
                         analysis=analysis,
                     )
 

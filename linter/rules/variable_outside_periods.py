@@ -29,7 +29,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ..wording import closest_name
+from ..wording import NameHints
 from .base import Context, Rule
 
 
@@ -43,11 +43,11 @@ def check(ctx: Context) -> Iterator[Finding]:
         with_arrows.add(arrow.source.text)
         with_arrows.add(arrow.target.text)
     # a period name that no variable has is the likely misspelling
-    strays = sorted(in_period - with_arrows)
+    strays = NameHints(sorted(in_period - with_arrows))
     for name, first in diagram.variables.items():
         if name in in_period or name not in with_arrows or name in diagram.unmeasured:
             continue
-        stray = closest_name(name, strays)
+        stray = strays.closest(name)
         hint = f" (`{stray}` in a period list may be a misspelling of it)" if stray else ""
         yield ctx.finding(
             RULE,
