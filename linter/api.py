@@ -54,9 +54,9 @@ class CheckedDiagram:
 
     def verdict(self, analysis: str | None = None) -> Verdict:
         """The verdict on one analysis (the same object every command reads)."""
-        from .verdict import Verdict
+        from .verdict import verdict_of
 
-        return Verdict(self.diagram, self._analysis(analysis))
+        return verdict_of(self.diagram, self._analysis(analysis))
 
     def is_valid_adjustment(self, analysis: str | None, covariates: Iterable[str]) -> bool:
         """Whether `covariates` would be a valid adjustment set for the analysis."""

@@ -289,7 +289,7 @@ def _structure_note(result: FileResult) -> str:
 
 def analysis_state(side: Side, name: str, max_sets: int) -> AnalysisState:
     """The facts of one analysis of one side, all read from its verdict."""
-    from .verdict import Verdict
+    from .verdict import verdict_of
 
     diagram = side.diagram
     assert diagram is not None
@@ -305,7 +305,7 @@ def analysis_state(side: Side, name: str, max_sets: int) -> AnalysisState:
     )
     if not side.result.causal_ran:
         return AnalysisState(checked=False, note=_structure_note(side.result), **roles)
-    verdict = Verdict(diagram, analysis)
+    verdict = verdict_of(diagram, analysis)
     try:
         minimal, truncated = verdict.list_minimal_sets(max_sets)
         # the front door matters for identification only when adjustment fails

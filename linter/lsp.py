@@ -172,9 +172,9 @@ def rename_spans(diagram: Diagram, old: str, new: str) -> list[Span]:
 
 def analysis_facts(diagram: Diagram, analysis: Analysis) -> Any:
     """The verdict on the analysis (the object `check` and every command read)."""
-    from .verdict import Verdict
+    from .verdict import verdict_of
 
-    return Verdict(diagram, analysis)
+    return verdict_of(diagram, analysis)
 
 
 def _roles(name: str, analysis: Analysis, facts: Any) -> list[str]:

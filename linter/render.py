@@ -270,9 +270,9 @@ def _hedge(diagram: Diagram, analysis: Analysis | None):
     the effect is identified or no analysis is drawn."""
     if analysis is None or not analysis.exposure_set or not analysis.outcome_set:
         return frozenset(), frozenset()
-    from .verdict import Verdict
+    from .verdict import verdict_of
 
-    verdict = Verdict(diagram, analysis)
+    verdict = verdict_of(diagram, analysis)
     if verdict.route != "not-identified" or verdict.identification.hedge is None:
         return frozenset(), frozenset()
     hedge = verdict.identification.hedge

@@ -47,6 +47,7 @@ Perkovic et al. 2018) are those of :mod:`dagward.causal.adjustment`.
 from __future__ import annotations
 
 from collections import deque
+from collections.abc import Iterator
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -234,27 +235,39 @@ class Verdict:
         return self.list_minimal_sets(pool)[0]
 
     def list_minimal_sets(self, limit: int) -> tuple[tuple[tuple[str, ...], ...], bool]:
-        """At most ``limit`` minimal valid sets, sorted, and whether the list was cut."""
+        """At most ``limit`` minimal valid sets, sorted, and whether the list was cut.
+
+        One listing per verdict, continued where the last call stopped: `check`
+        lists a few sets for its suggestions, and `adjustment` after it lists up
+        to its `--max` without finding the first ones again. The listing's order
+        is fixed, so the sets returned for a limit are those a fresh listing
+        would give."""
         if not self.identifiable:
             return (), False
-        found = []
         if self.natural is not None:
             covariates = self.natural.covariates
             return ((tuple(sorted(covariates)),) if covariates is not None else ()), False
+        found, listing = self._listing
+        while listing is not None and len(found) <= limit:
+            s = next(listing, None)
+            if s is None:
+                listing = None
+                self._listing = (found, None)
+            else:
+                found.append(s)
+        return _sorted_sets(found[:limit]), len(found) > limit
+
+    @cached_property
+    def _listing(self) -> tuple[list[frozenset[str]], Iterator[frozenset[str]] | None]:
+        """The minimal sets found so far, and the listing that finds the rest."""
         listing = (
             minimal_adjustment_sets_given(
-                self.graph, self.exposure, self.outcome, self.measured, self.forced, limit + 1
+                self.graph, self.exposure, self.outcome, self.measured, self.forced
             )
             if self.forced
-            else minimal_adjustment_sets(
-                self.graph, self.exposure, self.outcome, self.measured, limit + 1
-            )
+            else minimal_adjustment_sets(self.graph, self.exposure, self.outcome, self.measured)
         )
-        for s in listing:
-            if len(found) == limit:
-                return _sorted_sets(found), True
-            found.append(s)
-        return _sorted_sets(found), False
+        return [], listing
 
     @cached_property
     def smallest(self) -> tuple[str, ...] | None:
@@ -769,6 +782,23 @@ def json_path(graph, path) -> tuple[str, ...]:
     return tuple("<->" if is_hidden(graph, n) else n for n in path)
 
 
+def verdict_of(diagram: Diagram, analysis: Analysis) -> Verdict:
+    """The one verdict on an analysis of a diagram, judged once per diagram.
+
+    `check`'s rules and the command that reports afterwards (`adjustment`,
+    `paths`, `render`, `diff`, the language server, the API) all ask here, so
+    the answers a verdict has already worked out (its problems, its minimal
+    sets) are not worked out again. Kept on the diagram, so it lives as long as
+    the diagram and no longer; a diagram is never edited after parsing (a
+    changed diagram is a new `Diagram`, which gets verdicts of its own).
+    """
+    memo = diagram.__dict__.setdefault("_verdicts", {})
+    kept = memo.get(id(analysis))
+    if kept is None or kept.analysis is not analysis:
+        kept = memo[id(analysis)] = Verdict(diagram, analysis)
+    return kept
+
+
 def verdicts(diagram: Diagram) -> dict[str, Verdict]:
     """A verdict for every analysis of a diagram, by analysis name."""
-    return {a.name: Verdict(diagram, a) for a in diagram.analyses}
+    return {a.name: verdict_of(diagram, a) for a in diagram.analyses}

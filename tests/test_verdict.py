@@ -20,7 +20,7 @@ from dagward.api import check_covariates
 from dagward.commands.adjustment import report_for
 from dagward.engine import lint_source
 from dagward.syntax import parse_source
-from dagward.verdict import VALIDITY_RULES, Verdict
+from dagward.verdict import VALIDITY_RULES, Verdict, verdict_of
 from helpers.dag_text import to_dag_text
 from helpers.oracle import (
     analysis_case,
@@ -236,3 +236,79 @@ def test_the_route_is_adjustment_whenever_a_valid_set_exists():
     diagram, _ = parse_source(text, "c.dag")
     verdict = Verdict(diagram, diagram.analyses[0])
     assert verdict.route == "adjustment" and verdict.identification is None
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(
+    analysis_case(max_nodes=8, max_roles=1, density=0.5),
+    st.lists(st.integers(1, 6), min_size=1, max_size=4),
+)
+def test_one_listing_continued_gives_the_sets_a_fresh_listing_gives(case, limits):
+    """`check` lists a few minimal sets and `adjustment` continues that listing:
+    whatever the sequence of limits, each answer is that of a fresh verdict, and
+    against the brute-force oracle it is all the minimal sets, or `limit` of them
+    with the cut flagged."""
+    from helpers.oracle import oracle_minimal_valid_sets
+
+    text, diagram, _ = _verdict(case)
+    analysis = diagram.analyses[0]
+    shared = verdict_of(diagram, analysis)
+    G, X, Y = diagram.graph, shared.exposure, shared.outcome
+    every = set(oracle_minimal_valid_sets(G, X, Y, sorted(diagram.measured - X - Y)))
+    for limit in limits:
+        sets, cut = shared.list_minimal_sets(limit)
+        fresh_diagram, _ = parse_source(text, "fresh.dag")
+        assert (sets, cut) == Verdict(fresh_diagram, fresh_diagram.analyses[0]).list_minimal_sets(
+            limit
+        )
+        assert cut == (len(every) > limit)
+        assert {frozenset(s) for s in sets} <= every
+        assert len(sets) == min(limit, len(every))
+
+
+def test_a_listing_continued_in_steps_on_many_minimal_sets():
+    """k confounding routes enrolled <- a_i -> b_i -> fitness, each closed by a_i or
+    by b_i: 2^k minimal sets (common practice: independent choices multiply). The
+    listing is continued in steps up and down and checked against the oracle."""
+    from helpers.oracle import oracle_minimal_valid_sets
+
+    k = 4
+    lines = ["enrolled -> fitness"]
+    for i in range(k):
+        lines += [f"a{i} -> enrolled", f"a{i} -> b{i}", f"b{i} -> fitness"]
+    lines += ["analysis main {", "  exposure: enrolled", "  outcome: fitness", "}"]
+    text = "\n".join(lines) + "\n"
+    diagram, _ = parse_source(text, "routes.dag")
+    shared = verdict_of(diagram, diagram.analyses[0])
+    every = set(oracle_minimal_valid_sets(diagram.graph, {"enrolled"}, {"fitness"},
+                                          sorted(diagram.measured - {"enrolled", "fitness"})))  # fmt: skip
+    assert len(every) == 2**k
+    for limit in (1, 3, 2, 10, 16, 17, 5):
+        sets, cut = shared.list_minimal_sets(limit)
+        fresh, _ = parse_source(text, "fresh.dag")
+        assert (sets, cut) == Verdict(fresh, fresh.analyses[0]).list_minimal_sets(limit)
+        assert cut == (limit < 2**k) and len(sets) == min(limit, 2**k)
+        assert {frozenset(s) for s in sets} <= every
+
+
+def test_every_command_reads_the_verdict_check_judged():
+    """One verdict per analysis: the rules of `check`, `adjustment`'s report, the
+    API and a second look-up all get the same object, so nothing is judged twice."""
+    from dagward.api import CheckedDiagram
+
+    text = "\n".join(
+        ["age -> enrolled", "age -> fitness", "enrolled -> fitness",
+         "analysis main {", "  exposure: enrolled", "  outcome: fitness", "  adjust: age", "}"]
+    ) + "\n"  # fmt: skip
+    result = lint_source(text, "one.dag")
+    diagram = result.diagram
+    analysis = diagram.analyses[0]
+    judged = verdict_of(diagram, analysis)
+    assert judged is verdict_of(diagram, analysis)
+    assert judged.__dict__.get("problems") is not None  # the rules already asked it
+    report = report_for(diagram, analysis, 20)
+    assert report["minimal_sets"] == [["age"]] and report["declared_valid"] is True
+    assert CheckedDiagram(diagram).verdict("main") is judged
+    # a new parse of the same text is a new diagram with a verdict of its own
+    again, _ = parse_source(text, "one.dag")
+    assert verdict_of(again, again.analyses[0]) is not judged

@@ -234,15 +234,20 @@ def _numbered(adj: Adjacency) -> tuple[Neighbours, dict, list]:
     return nbrs, number, vertices
 
 
+KEPT_PROBLEMS = 4
+
+
 def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
     """The moral graph of the ancestral proper back-door graph, contracted
     (:func:`_contracted`), with the exposures, outcomes and removable marks
     on the contracted graph.
 
     Returns (index, neighbours, original vertex of each contracted vertex,
-    xs, ys, removable marks).  The last one built is kept in the graph's
-    cache, since ``adjustment`` asks for both the minimal sets and the
-    smallest one of the same analysis.
+    xs, ys, removable marks).  The last ``KEPT_PROBLEMS`` built are kept in
+    the graph's cache (about 100 bytes a variable each), since `check` lists
+    minimal sets of each analysis and `adjustment` then asks for the
+    smallest set of the same analyses: a file of a few analyses builds each
+    problem once.
     """
     X, Y = _roles(G, X, Y)
     ix = indexed(G)
@@ -265,7 +270,9 @@ def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
     problem = (ix, *_contracted(nbrs, vertices, removable, ix.ids(X), ix.ids(Y)))
     if cache is not None:
         kept_problems = cache["adjustment_problem"]
-        kept_problems.clear()  # one at a time: a large diagram's is large
+        kept_problems.pop(key, None)
+        while len(kept_problems) >= KEPT_PROBLEMS:  # the oldest goes first
+            del kept_problems[next(iter(kept_problems))]
         kept_problems[key] = (measured, problem)
     return problem
 

@@ -27,18 +27,18 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 def report_for(diagram, analysis, max_sets: int) -> dict:
     """The analysis's verdict as the documented JSON shape."""
-    from ..verdict import Verdict
+    from ..verdict import verdict_of
 
-    return Verdict(diagram, analysis).to_dict(max_sets)
+    return verdict_of(diagram, analysis).to_dict(max_sets)
 
 
 def render_text(file: str, diagram, reports: list[dict], max_sets: int) -> str:
-    from ..verdict import Verdict
+    from ..verdict import verdict_of
     from ..wording import format_set, problem_message, question_text
 
     lines = []
     for r in reports:
-        verdict = Verdict(diagram, diagram.analysis(r["name"]))
+        verdict = verdict_of(diagram, diagram.analysis(r["name"]))
         if verdict.question == "total" and not verdict.restricted_all:
             lines.append(f"{file}: analysis {r['name']}: effect of {', '.join(r['exposure'])} "
                          f"on {', '.join(r['outcome'])}")  # fmt: skip

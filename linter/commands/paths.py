@@ -37,9 +37,9 @@ def describe(
     a controlled direct effect, the exposure and the mediators) and the outcome,
     judged given the adjustment set and the restriction; for natural effects also
     the mediator-outcome paths, given the adjustment set and the exposure."""
-    from ..verdict import Verdict
+    from ..verdict import verdict_of
 
-    verdict = Verdict(diagram, analysis)
+    verdict = verdict_of(diagram, analysis)
     plain = verdict.question == "total" and not verdict.restricted_all
     adjust = given if given is not None else set(analysis.adjust_set or ())
     if plain:

@@ -40,7 +40,6 @@ class Context:
     file: str  # the path as shown to the user
     data: Any = None  # a loaded data table, for the data rules (`--data`)
     data_options: Any = None
-    _verdicts: dict[str, Verdict] | None = None
 
     def finding(
         self,
@@ -70,11 +69,6 @@ class Context:
 
     def verdict(self, analysis: Analysis) -> Verdict:
         """The verdict on one analysis, computed once and shared by the rules."""
-        from ..verdict import Verdict
+        from ..verdict import verdict_of
 
-        if self._verdicts is None:
-            self._verdicts = {}
-        key = analysis.name
-        if key not in self._verdicts:
-            self._verdicts[key] = Verdict(self.diagram, analysis)
-        return self._verdicts[key]
+        return verdict_of(self.diagram, analysis)
