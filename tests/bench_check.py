@@ -148,7 +148,7 @@ SCALING_COMMANDS = [
     ("fmt --check", ["fmt", "--check"]),
     ("adjustment", ["adjustment"]),
     ("paths --limit 100", ["paths", "--limit", "100"]),
-    ("independencies", ["independencies"]),
+    ("independencies --max 100", ["independencies", "--max", "100"]),
 ]
 SIZES = (1_000, 10_000, 100_000)
 
@@ -195,6 +195,16 @@ def scaling_table(commands=SCALING_COMMANDS, sizes=SIZES, timeout: float = 60.0)
                 continue
             growth.append(f"{math.log(tb / ta) / k:.2f}/{math.log(mb / ma) / k:.2f}")
         print(f"{label:22}" + "".join(cells) + "   " + ", ".join(growth))
+    if any(label == "check" for label, _ in commands):
+        print("time as a multiple of `check` of the same file (target for adjustment: <= 2x):")
+        for label, _ in commands:
+            if label == "check":
+                continue
+            ratios = []
+            for n in sizes:
+                t, t_check = results[label, n][0], results["check", n][0]
+                ratios.append("-" if t is None or t_check is None else f"{t / t_check:.2f}x")
+            print(f"  {label:22}" + "".join(f"{r:>12}" for r in ratios))
     print(
         f"(MB: peak resident size of the process; KB/v: above the {base:.0f} MB of start-up, per variable;"
     )

@@ -10,6 +10,7 @@ from __future__ import annotations
 from itertools import combinations
 
 import networkx as nx
+from helpers.examples import examples
 from helpers.oracle import (
     analysis_case,
     blocked,
@@ -52,7 +53,7 @@ def test_oracle_adjustment_on_confounder_and_mediator():
     assert oracle_minimal_valid_sets(G, X, Y, {"age", "fitness"}) == [frozenset({"age"})]
 
 
-@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(150), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(analysis_case(max_nodes=7))
 def test_fast_minimal_sets_oracle_is_the_definition(case):
     # the hoisted oracle against the subset-by-subset definition

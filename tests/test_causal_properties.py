@@ -33,6 +33,7 @@ from dagward.causal.separators import (
     _separator_search,
     enumerate_minimal_separators,
 )
+from helpers.examples import examples
 from helpers.oracle import (
     analysis_case,
     blocked,
@@ -51,8 +52,8 @@ from helpers.oracle import (
 from hypothesis import HealthCheck, given, note, settings
 from hypothesis import strategies as st
 
-FAST = settings(max_examples=200, deadline=None, suppress_health_check=list(HealthCheck))
-MANY = settings(max_examples=400, deadline=None, suppress_health_check=list(HealthCheck))
+FAST = settings(max_examples=examples(200), deadline=None, suppress_health_check=list(HealthCheck))
+MANY = settings(max_examples=examples(400), deadline=None, suppress_health_check=list(HealthCheck))
 
 
 def assert_genuine_path(G, path, X, Y):

@@ -13,6 +13,7 @@ from __future__ import annotations
 from dagward.causal import is_hidden
 from dagward.engine import lint_source
 from helpers.dag_text import to_dag_text
+from helpers.examples import examples
 from helpers.oracle import (
     analysis_case,
     blocked,
@@ -46,7 +47,7 @@ def case_with_unmeasured_adjustment(draw):
     return case, frozenset(case.Z | extra)
 
 
-@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(300), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(case_with_unmeasured_adjustment())
 def test_declared_set_valid_iff_no_validity_rule_fires(drawn):
     case, Z = drawn
@@ -77,7 +78,7 @@ def test_declared_set_valid_iff_no_validity_rule_fires(drawn):
         assert oracle_minimal_valid_sets(G, set(case.X), set(case.Y), candidates) == []
 
 
-@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(300), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(analysis_case(max_nodes=8, max_roles=1))
 def test_confounding_and_collider_paths_are_real(case):
     text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z)

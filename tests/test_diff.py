@@ -33,6 +33,7 @@ from dagward.engine import lint_source
 from dagward.rules import VALIDITY_RULES
 from dagward.verdict import Verdict
 from helpers.dag_text import to_dag_text
+from helpers.examples import examples
 from helpers.oracle import analysis_case
 from helpers.oracle import oracle_minimal_valid_sets as brute_force_minimal_sets
 from helpers.oracle import oracle_valid as brute_force_valid
@@ -722,7 +723,7 @@ def _check_verdict(text: str):
     return result, {f.rule for f in result.findings if f.analysis == "question"}
 
 
-@settings(max_examples=100, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(100), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(changed_case())
 def test_diff_speaks_the_verdict_of_check_and_the_oracle(example):
     from dagward.diff import diff_revisions

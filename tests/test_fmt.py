@@ -28,6 +28,7 @@ from dagward.model import (
     UnmeasuredStatement,
 )
 from dagward.syntax import parse_source
+from helpers.examples import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -282,7 +283,7 @@ def diagram_text(draw):
     return "\n".join(parts) + ending
 
 
-@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(300), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(diagram_text())
 def test_generated_diagrams(text):
     diagram, problem = parse_source(text, "x.dag")
@@ -339,7 +340,7 @@ def test_there_is_something_to_mutate():
     [p.read_bytes().decode("utf-8-sig") for p in PARSING] + INLINE_SAMPLES,
     ids=[str(p.relative_to(REPO)) for p in PARSING] + ["inline-messy", "inline-canonical"],
 )
-@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(25), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(data=st.data())
 def test_mutated_samples(source, data):
     canonical = check_properties(source)

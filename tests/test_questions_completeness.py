@@ -26,6 +26,7 @@ import json
 from dagward.engine import lint_source
 from dagward.rules import VALIDITY_RULES
 from helpers.dag_text import to_dag_text
+from helpers.examples import examples
 from helpers.oracle import analysis_case
 from helpers.question_oracles import oracle_sets_given, oracle_valid_for_question
 from hypothesis import HealthCheck, given, settings
@@ -51,7 +52,7 @@ def question_case(draw):
     return case, effect, M, R
 
 
-@settings(max_examples=1200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(1200), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(question_case())
 def test_declared_set_valid_for_question_iff_no_validity_rule_fires(drawn):
     case, effect, M, R = drawn
@@ -80,7 +81,7 @@ def test_declared_set_valid_for_question_iff_no_validity_rule_fires(drawn):
         assert "exposure-induced-confounder" not in fired, text
 
 
-@settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(400), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(question_case())
 def test_adjustment_json_lists_sets_valid_with_the_restriction(drawn):
     """`adjustment --format json` of a restricted total-effect analysis lists

@@ -28,6 +28,7 @@ from dagward.causal.questions import (
     selection_verdict,
     sequential_verdict,
 )
+from helpers.examples import examples
 from helpers.oracle import (
     blocked,
     causal,
@@ -54,8 +55,8 @@ from helpers.question_oracles import (
 from hypothesis import HealthCheck, given, note, settings
 from hypothesis import strategies as st
 
-MANY = settings(max_examples=700, deadline=None, suppress_health_check=list(HealthCheck))
-SOME = settings(max_examples=600, deadline=None, suppress_health_check=list(HealthCheck))
+MANY = settings(max_examples=examples(700), deadline=None, suppress_health_check=list(HealthCheck))
+SOME = settings(max_examples=examples(600), deadline=None, suppress_health_check=list(HealthCheck))
 
 
 @st.composite
@@ -264,7 +265,7 @@ def dense_mediation_case(draw):
 
 
 @pytest.mark.slow  # runs in .ci/run; the sparse case above runs in the quick suite
-@settings(max_examples=1500, deadline=None, suppress_health_check=list(HealthCheck))
+@settings(max_examples=examples(1500), deadline=None, suppress_health_check=list(HealthCheck))
 @given(dense_mediation_case())
 def test_natural_effects_match_oracle_on_dense_diagrams(case):
     test_natural_effects_match_oracle.hypothesis.inner_test(case)

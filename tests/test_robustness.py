@@ -7,6 +7,7 @@ import sys
 
 from clirunner import ROOT, dagward
 from dagward.engine import lint_source
+from helpers.examples import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -111,19 +112,19 @@ def _assert_clean(data):
     assert len(syntax) <= 1
 
 
-@settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(400), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.lists(ALPHABET, max_size=60).map("".join))
 def test_random_token_soup_never_crashes(text):
     _assert_clean(text)
 
 
-@settings(max_examples=200, deadline=None)
+@settings(max_examples=examples(200), deadline=None)
 @given(st.binary(max_size=200))
 def test_random_bytes_never_crash(data):
     _assert_clean(data)
 
 
-@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(300), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.integers(0, len(SAMPLES) - 1), st.integers(0, 2**32 - 1), st.integers(1, 6))
 def test_mutated_samples_never_crash(which, seed, edits):
     rng = random.Random(seed)

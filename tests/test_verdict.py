@@ -22,6 +22,7 @@ from dagward.engine import lint_source
 from dagward.syntax import parse_source
 from dagward.verdict import VALIDITY_RULES, Verdict, verdict_of
 from helpers.dag_text import to_dag_text
+from helpers.examples import examples
 from helpers.oracle import (
     analysis_case,
     blocked,
@@ -35,7 +36,9 @@ from helpers.oracle import (
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-MANY = settings(max_examples=1500, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+MANY = settings(
+    max_examples=examples(1500), deadline=None, suppress_health_check=[HealthCheck.too_slow]
+)
 
 
 def _verdict(case):
@@ -108,14 +111,14 @@ def _what(text: str):
     )
 
 
-@settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(400), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(analysis_case(max_nodes=8, max_roles=2), st.integers(0, 2**32))
 def test_findings_do_not_depend_on_the_order_of_lines(case, seed):
     text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z)
     assert _what(text) == _what(_shuffled(text, seed))
 
 
-@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(300), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(analysis_case(max_nodes=8, max_roles=2))
 def test_check_adjustment_and_the_api_speak_the_same_verdict(tmp_path_factory, case):
     text, diagram, verdict = _verdict(case)
@@ -160,7 +163,7 @@ def test_unmeasured_confounding_does_not_silence_a_closable_path():
     assert "the best that adjustment can do is {commute_distance}" in warning
 
 
-@settings(max_examples=600, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(600), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(analysis_case(max_nodes=9, max_roles=2))
 def test_the_linear_search_for_large_diagrams_is_sound(case):
     """Above the exact bound a sound search is used: whatever path it returns is
@@ -238,7 +241,7 @@ def test_the_route_is_adjustment_whenever_a_valid_set_exists():
     assert verdict.route == "adjustment" and verdict.identification is None
 
 
-@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=examples(60), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(
     analysis_case(max_nodes=8, max_roles=1, density=0.5),
     st.lists(st.integers(1, 6), min_size=1, max_size=4),
