@@ -33,3 +33,16 @@ def dagward(*args: str, cwd: str | Path | None = None, env: dict | None = None,
     out, err = proc.stdout.decode("utf-8", "replace"), proc.stderr.decode("utf-8", "replace")
     assert "Traceback" not in err, err
     return Run(proc.returncode, out, err)
+
+
+def in_process(capsys, *args: str) -> Run:
+    """The command line run in this process (no interpreter start-up per case);
+    ``capsys`` is pytest's fixture that captures what it prints."""
+    from dagward.cli import main
+
+    try:
+        code = main(list(args))
+    except SystemExit as e:  # argparse ends a bad command line this way
+        code = e.code
+    captured = capsys.readouterr()
+    return Run(code, captured.out, captured.err)

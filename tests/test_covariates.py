@@ -27,7 +27,7 @@ from pathlib import Path
 
 import networkx as nx
 import pytest
-from clirunner import ROOT, Run, dagward
+from clirunner import ROOT, dagward, in_process
 from dagward.api import load_diagram
 from dagward.cli import main
 from dagward.formula import FormulaProblem, parse_formula
@@ -131,16 +131,6 @@ def test_formulas_that_are_refused(formula, says):
 
 
 # --- the command ----------------------------------------------------------------------------
-
-
-def in_process(capsys, *args: str) -> Run:
-    """The command line run in this process (no interpreter start-up per case)."""
-    try:
-        code = main(list(args))
-    except SystemExit as e:  # argparse ends a bad command line this way
-        code = e.code
-    captured = capsys.readouterr()
-    return Run(code, captured.out, captured.err)
 
 
 def test_valid_formula_exits_0_with_the_verdict(capsys):
@@ -382,26 +372,23 @@ def test_readme_pytest_example_passes_and_fails_when_it_should(tmp_path):
     project, env = _project_with_dagward_on_path(tmp_path)
     block = _readme_block("python", "def test_model_covariates_match_the_diagram")
     (project / "test_model.py").write_text(block)
-    done = subprocess.run(
-        [sys.executable, "-m", "pytest", "-q", "-p", "no:cacheprovider", "test_model.py"],
-        cwd=project,
-        env=env,
-        capture_output=True,
-        text=True,
-        timeout=300,
-    )
-    assert done.returncode == 0, done.stdout + done.stderr
     # the same test with a covariate missing fails, and says why
-    (project / "test_model.py").write_text(block.replace(" + C(shift_work)", ""))
+    (project / "test_model_missing.py").write_text(block.replace(" + C(shift_work)", ""))
+    # one pytest run for both files; the example needs no plugin, so none is loaded
     done = subprocess.run(
-        [sys.executable, "-m", "pytest", "-q", "-p", "no:cacheprovider", "test_model.py"],
+        [sys.executable, "-m", "pytest", "-q", "-rA", "-p", "no:cacheprovider",
+         "test_model.py", "test_model_missing.py"],
         cwd=project,
-        env=env,
+        env={**env, "PYTEST_DISABLE_PLUGIN_AUTOLOAD": "1"},
         capture_output=True,
         text=True,
         timeout=300,
-    )
-    assert done.returncode == 1 and "open-biasing-path" in done.stdout
+    )  # fmt: skip
+    out = done.stdout + done.stderr
+    assert done.returncode == 1, out
+    assert "PASSED test_model.py::test_model_covariates_match_the_diagram" in out
+    assert "FAILED test_model_missing.py::test_model_covariates_match_the_diagram" in out
+    assert "1 failed, 1 passed" in out and "open-biasing-path" in out
 
 
 def test_readme_stata_shell_line_leaves_the_marker_only_on_failure(tmp_path):

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 
-from clirunner import ROOT, dagward
+from clirunner import ROOT, dagward, in_process
 from dagward.causal.estimand import from_json, front_door_formula
 from dagward.causal.identify import identify_effect
 from dagward.config import Settings
@@ -33,13 +33,17 @@ def test_front_door_fixture_text_and_json():
     assert from_json(a["estimand"]) == front_door_formula("enrolled", "sick_days", {"step_count"})
 
 
-def test_json_answers_are_those_of_the_library_on_every_fixture():
+def test_json_answers_are_those_of_the_library_on_every_fixture(capsys):
     for path in sorted(FIX.rglob("*.dag")):
         result = read_and_lint(str(path), Settings())
         if result.diagram is None or not result.causal_ran or not result.diagram.analyses:
             continue
         d = result.diagram
-        reports = _json(path)
+        # in this process: 50 fixtures, no interpreter start-up each (the tests
+        # above run the real command line)
+        run = in_process(capsys, "identify", str(path), "--format", "json")
+        assert run.code == 0, run.err
+        reports = json.loads(run.out)["analyses"]
         for a, report in zip(d.analyses, reports, strict=True):
             try:
                 r = identify_effect(d.graph, a.exposure_set, a.outcome_set, d.measured)
