@@ -3,21 +3,10 @@
 from __future__ import annotations
 
 import pytest
-from clirunner import Run, dagward
-from dagward.cli import main
+from clirunner import dagward, in_process
 from dagward.report import ruledoc
 from dagward.rules import ALL_RULES
 from dagward.wording import close_names
-
-
-def in_process(capsys, *args: str) -> Run:
-    """The command line run in this process (no interpreter start-up per case)."""
-    try:
-        code = main(list(args))
-    except SystemExit as e:  # argparse ends a bad command line this way
-        code = e.code
-    captured = capsys.readouterr()
-    return Run(code, captured.out, captured.err)
 
 
 @pytest.mark.parametrize("rule", ALL_RULES, ids=lambda r: r.name)
