@@ -16,7 +16,7 @@ import warnings
 from pathlib import Path
 
 import pytest
-from clirunner import ROOT, dagward
+from clirunner import ROOT, dagward, in_process
 from dagward.data import DataOptions, implied, load_data, run_tests
 from dagward.errors import UsageProblem
 from dagward.stats import ReadOptions, detect_format
@@ -252,28 +252,31 @@ def test_every_column_missing_points_at_the_separator(tmp_path):
     assert "most likely split at the wrong separator" in run.out and "--sep" in run.out
 
 
-def test_options_and_config_table_reach_the_reader(tmp_path):
+def test_options_and_config_table_reach_the_reader(tmp_path, capsys, monkeypatch):
+    # the command line in this process (five runs that each import numpy and scipy)
+    monkeypatch.chdir(tmp_path)
     # the table of the pyproject.toml nearest the diagram applies (per-file settings)
     (tmp_path / "pyproject.toml").write_text(
         '[tool.dagward.data]\ncategorical = ["fitness_base"]\n'
     )
     diagram = tmp_path / "wellness.dag"
     diagram.write_bytes(DIAGRAM.read_bytes())
-    run = dagward("independencies", str(diagram), "--data", str(CLEAN), "--format", "json",
-                  cwd=tmp_path)  # fmt: skip
+    run = in_process(
+        capsys, "independencies", str(diagram), "--data", str(CLEAN), "--format", "json"
+    )
     assert run.code == 0 and "too few rows for the G-test" in run.out
     # the command line wins over the file
-    run = dagward("independencies", str(diagram), "--data", str(CLEAN), "--format", "json",
-                  "--categorical", "age", cwd=tmp_path)  # fmt: skip
+    run = in_process(capsys, "independencies", str(diagram), "--data", str(CLEAN), "--format", "json",
+                     "--categorical", "age")  # fmt: skip
     assert run.code == 0 and "fitness_base" in run.out
     import json
 
     tests = [i["test"] for i in json.loads(run.out)["independencies"]]
     assert any(t["method"] == "g-test" for t in tests)
     (tmp_path / "pyproject.toml").write_text('[tool.dagward.data]\nsep = "::"\n')
-    run = dagward("independencies", str(diagram), "--data", str(CLEAN), cwd=tmp_path)
+    run = in_process(capsys, "independencies", str(diagram), "--data", str(CLEAN))
     assert run.code == 2 and "data.sep" in run.err
-    run = dagward("check", str(DIAGRAM), "--data", str(CLEAN), "--sep", "ab")
+    run = in_process(capsys, "check", str(DIAGRAM), "--data", str(CLEAN), "--sep", "ab")
     assert run.code == 2 and "--sep" in run.err
 
 

@@ -10,7 +10,7 @@ import sys
 from pathlib import Path
 
 import pytest
-from clirunner import ROOT, dagward
+from clirunner import ROOT, dagward, in_process
 from dagward.config import Settings
 from dagward.data import table_from_csv_text
 from dagward.engine import lint_source
@@ -142,11 +142,14 @@ def test_check_without_data_never_imports_the_statistics_stack():
     assert proc.stdout.strip().splitlines()[-1] == "[]", proc.stderr
 
 
-def test_options_are_checked():
+def test_options_are_checked(capsys, monkeypatch):
+    monkeypatch.chdir(ROOT)  # in this process: each run imports the statistics stack
     for args in (("--alpha", "0"), ("--alpha", "1.5"), ("--min-effect", "-0.1")):
-        run = dagward("check", "samples/wellness.dag", "--data", CONSISTENT, *args)
+        run = in_process(capsys, "check", "samples/wellness.dag", "--data", CONSISTENT, *args)
         assert run.code == 2 and args[0] in run.err
-    run = dagward("check", "samples/wellness.dag", "--data", EXTRA_ARROW, "--method", "spearman")
+    run = in_process(
+        capsys, "check", "samples/wellness.dag", "--data", EXTRA_ARROW, "--method", "spearman"
+    )
     assert run.code == 0 and "[independence-rejected]" in run.out
 
 
