@@ -62,7 +62,7 @@ def describe(
 
 
 def _describe(diagram, name, X, Y, adjust, conditioned, limit: int, open_only: bool) -> dict:
-    from ..causal import describe_path, is_hidden
+    from ..causal import describe_paths, is_hidden
     from ..causal.paths import open_paths, simple_paths
     from ..wording import spell_path
 
@@ -88,8 +88,7 @@ def _describe(diagram, name, X, Y, adjust, conditioned, limit: int, open_only: b
                 break
             paths.append(p)
     rows = []
-    for p in paths:
-        info = describe_path(g, p, X, conditioned)
+    for p, info in zip(paths, describe_paths(g, paths, X, conditioned), strict=True):
         rows.append({
             "path": ["<->" if is_hidden(g, n) else n for n in p],
             "text": spell_path(g, p),
