@@ -315,8 +315,8 @@ def open_paths(
                     continue
                 # A forward search usually finds an outcome at once; after one
                 # fails, one backward search settles every other neighbour.
-                w.step()
                 if good is None:
+                    w.step()
                     on_path[u] = 1
                     ok = _open_walk_to(moves, first, on_path, pos, dead, y_mask)
                     on_path[u] = 0
