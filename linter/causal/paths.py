@@ -266,14 +266,19 @@ def open_paths(
     walls instead of walking them again.  Searches also stop at once when no
     outcome is left off the path.
 
-    Delay: a scan of a variable costs at most ``FORWARD_TRIES`` + 2
-    linear-time searches (a neighbour already marked dead costs none); a
-    variable is scanned when entered and again after each return to it, so
-    between two paths (and after the last) there are at most
-    (``FORWARD_TRIES`` + 2)(2|V| + 1) searches, O(|V|(|V| + |E|)) time; the
-    marks only remove work from that bound.  ``steps[0]`` counts the
-    searches.  ``shortest_first`` as for :func:`simple_paths`; the searches
-    then also walk toward the outcomes first.
+    Delay: one backward pass first gives every state its distance to an
+    outcome (states with none are never tried; the forward searches walk
+    the nearest states first, so a search that succeeds usually walks
+    straight to an outcome).  A scan of a variable then costs at most
+    ``FORWARD_TRIES`` + 1 linear-time searches: up to ``FORWARD_TRIES``
+    failed forward searches and the backward one, or fewer failures and
+    one success (a neighbour already marked dead costs none).  A variable
+    is scanned when entered and again after each return to it, so between
+    two paths (and after the last) there are at most
+    (``FORWARD_TRIES`` + 1)(2|V| + 1) searches, O(|V|(|V| + |E|)) time,
+    and one more before the first path (the distances); the kept marks only
+    remove work from that bound.  ``steps[0]`` counts the searches.
+    ``shortest_first`` as for :func:`simple_paths`.
     """
     X, Y, Z = _as_set(G, X), _as_set(G, Y), _as_set(G, Z)
     w = _Walker(G, steps, Y if shortest_first else None)
@@ -282,6 +287,7 @@ def open_paths(
     y_mask, x_mask, inz = ix.mask(Y), ix.mask(X), ix.mask(Z)
     anc = ancestor_mask(ix, Z)
     dead = _DeadStates(ix.n)
+    w.step()
     moves = _Moves(ix, x_mask, inz, anc, y_mask)
     far = moves.dist
     pos = array("i", [-1]) * ix.n  # index on the path, -1 off it
