@@ -146,7 +146,10 @@ def simple_paths(
     regions that cannot reach an outcome while the path below them stays,
     so they are never tried again from that point.  Each search is one
     linear-time step; a failed search pops one variable, so between two
-    paths (and after the last) there are at most |V| + 1 steps.  The order is
+    paths (and after the last) there are at most |V| + 1 steps,
+    O(|V|(|V| + |E|)) time.  When no outcome is left off the path (the top
+    is the only outcome, say) the step pops at once instead of searching
+    the whole diagram for one.  The order is
     that of the plain depth-first listing.  ``steps[0]``, when given, counts
     the searches (for tests of the delay).  With ``shortest_first`` the
     neighbours are tried nearest to an outcome first instead of by name
