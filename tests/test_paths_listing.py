@@ -122,6 +122,30 @@ def _dense_file(tmp_path):
     return p
 
 
+@pytest.mark.parametrize("adjust", ["v1, v2", ", ".join(f"v{i}" for i in range(1, 59))])
+def test_paths_limit_5_on_a_dense_60_variable_diagram_stays_within_the_bound(tmp_path, adjust):
+    """`paths --limit 5` (dagward.commands.paths.describe, as the command runs it)
+    takes at most six open paths (five and the one that shows the cut) and, when
+    fewer than five are open, at most six more from the plain listing: with the
+    per-path bounds of open_paths and simple_paths, at most
+    1 + 6 (FORWARD_TRIES + 1)(2|V| + 1) + 6 (|V| + 1) linear-time searches.
+    Adjusting for v1 and v2 leaves open paths; adjusting for every variable
+    between the two blocks them all, so the plain listing runs too."""
+    from dagward.commands.paths import describe
+    from dagward.syntax import parse_source
+
+    p = _dense_file(tmp_path)
+    text = p.read_text().replace("adjust: v1, v2", f"adjust: {adjust}")
+    diagram, problem = parse_source(text, str(p))
+    assert problem is None
+    n = diagram.graph.number_of_nodes()
+    steps = [0]
+    report = describe(diagram, diagram.analyses[0], None, 5, steps=steps)
+    assert len(report["paths"]) == 5 and report["truncated"]
+    assert any(r["open"] for r in report["paths"]) == (adjust == "v1, v2")
+    assert 0 < steps[0] <= 1 + 6 * (FORWARD_TRIES + 1) * (2 * n + 1) + 6 * (n + 1)
+
+
 def test_paths_lists_open_ones_first_and_open_lists_only_them(tmp_path):
     p = _dense_file(tmp_path)
     doc = json.loads(dagward("paths", str(p), "--limit", "30", "--format", "json").out)
