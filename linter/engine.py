@@ -36,6 +36,7 @@ def lint_source(
     *,
     table: Any = None,
     data_options: Any = None,
+    blocking_only: bool = False,
 ) -> FileResult:
     settings = settings or Settings()
     diagram, problem = parse_source(data, file)
@@ -45,7 +46,9 @@ def lint_source(
 
         return FileResult(file, [finding.with_severity(settings.severity_of(SYNTAX))])
     assert diagram is not None
-    return lint_diagram(diagram, file, settings, table=table, data_options=data_options)
+    return lint_diagram(
+        diagram, file, settings, table=table, data_options=data_options, blocking_only=blocking_only
+    )
 
 
 def lint_diagram(
@@ -55,7 +58,18 @@ def lint_diagram(
     *,
     table: Any = None,
     data_options: Any = None,
+    blocking_only: bool = False,
 ) -> FileResult:
+    """The findings of every enabled rule, and whether the causal rules could run.
+
+    With ``blocking_only``, for a command that only needs to know whether the
+    diagram is fit to reason about (it prints errors and nothing else), only
+    the structure rules whose findings could stop the causal reasoning run:
+    those at severity error under the settings and those in
+    ``_ALWAYS_BLOCKING``. ``causal_ran`` and the error findings are the same
+    as in a full run; warnings and the causal rules are not computed (on a
+    large diagram their messages cost more than the command itself).
+    """
     settings = settings or Settings()
     ctx = Context(diagram=diagram, file=file, data=table, data_options=data_options)
     allowed = allowed_by_line(diagram)
@@ -66,6 +80,8 @@ def lint_diagram(
             if not settings.is_enabled(rule):
                 continue
             severity = settings.severity_of(rule)
+            if blocking_only and severity != "error" and rule.name not in _ALWAYS_BLOCKING:
+                continue
             for f in rule.check(ctx):
                 out.append(f if f.severity == severity else f.with_severity(severity))
         return out
@@ -77,7 +93,7 @@ def lint_diagram(
         for f in structure
     )
     findings = structure
-    if not blocked:
+    if not blocked and not blocking_only:
         findings = findings + run(CAUSAL_RULES)
         if table is not None:
             findings = findings + run(DATA_RULES)

@@ -27,7 +27,14 @@ from .dsep import d_connecting_path, d_separated, path_is_causal, path_is_open
 from .graph import ancestors, descendants, hidden_node_name, is_hidden
 from .identify import Hedge, Identification, identify_effect, latent_projection
 from .instruments import Instrument, instruments
-from .paths import BlockingNode, OpenedCollider, PathInfo, describe_path, enumerate_paths
+from .paths import (
+    BlockingNode,
+    OpenedCollider,
+    PathInfo,
+    describe_path,
+    describe_paths,
+    enumerate_paths,
+)
 from .separators import (
     front_door_set,
     implied_independencies,
@@ -53,6 +60,7 @@ __all__ = [
     "d_separated",
     "descendants",
     "describe_path",
+    "describe_paths",
     "enumerate_paths",
     "fixable_confounding_path",
     "forbidden",

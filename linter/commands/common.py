@@ -91,14 +91,15 @@ def load_clean(path: str, settings: Settings):
 
     Returns the FileResult; raises UsageProblem when the file is missing and
     DiagramHasErrors (exit 1, errors printed) when structure errors stop the
-    causal reasoning.
+    causal reasoning. Only the rules that can stop it run (the commands print
+    errors, never warnings), so a command costs no more than its own work.
     """
     from ..engine import read_and_lint
     from ..errors import DiagramHasErrors, UsageProblem
 
     if not os.path.isfile(path):
         raise UsageProblem(f"no such file: {path}")
-    result = read_and_lint(path, settings)
+    result = read_and_lint(path, settings, blocking_only=True)
     if result.diagram is None or not result.causal_ran:
         raise DiagramHasErrors(result)
     return result

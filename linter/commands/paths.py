@@ -31,12 +31,20 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def describe(
-    diagram, analysis, given: set[str] | None, limit: int, open_only: bool = False
+    diagram,
+    analysis,
+    given: set[str] | None,
+    limit: int,
+    open_only: bool = False,
+    steps: list[int] | None = None,
 ) -> dict:
     """The paths that matter for the analysis's question: between the exposure (for
     a controlled direct effect, the exposure and the mediators) and the outcome,
     judged given the adjustment set and the restriction; for natural effects also
-    the mediator-outcome paths, given the adjustment set and the exposure."""
+    the mediator-outcome paths, given the adjustment set and the exposure.
+
+    ``steps[0]``, when given, counts the linear-time searches of the listings
+    (see dagward.causal.paths), for tests of the cost per path printed."""
     from ..verdict import verdict_of
 
     verdict = verdict_of(diagram, analysis)
@@ -44,25 +52,27 @@ def describe(
     adjust = given if given is not None else set(analysis.adjust_set or ())
     if plain:
         report = _describe(diagram, analysis.name, analysis.exposure_set, analysis.outcome_set,
-                           adjust, adjust, limit, open_only)  # fmt: skip
+                           adjust, adjust, limit, open_only, steps)  # fmt: skip
         return report
     adjust = set(adjust) - verdict.listed_mediators
     report = _describe(diagram, analysis.name, verdict.exposure, verdict.outcome, adjust,
-                       adjust | verdict.forced, limit, open_only)  # fmt: skip
+                       adjust | verdict.forced, limit, open_only, steps)  # fmt: skip
     report["question"] = verdict.question
     report["restricted"] = sorted(verdict.restricted_all)
     part = verdict.parts.get("mediator-outcome")
     if part is not None:
         # only the non-causal mediator-outcome paths: the confounding that matters
         sub = _describe(diagram, analysis.name, part.exposure, part.outcome, adjust,
-                        adjust | part.forced, limit, open_only)  # fmt: skip
+                        adjust | part.forced, limit, open_only, steps)  # fmt: skip
         report["mediator_outcome_paths"] = [r for r in sub["paths"] if not r["causal"]]
         report["mediator_outcome_truncated"] = sub["truncated"]
     return report
 
 
-def _describe(diagram, name, X, Y, adjust, conditioned, limit: int, open_only: bool) -> dict:
-    from ..causal import describe_path, is_hidden
+def _describe(
+    diagram, name, X, Y, adjust, conditioned, limit: int, open_only: bool, steps=None
+) -> dict:
+    from ..causal import describe_paths, is_hidden
     from ..causal.paths import open_paths, simple_paths
     from ..wording import spell_path
 
@@ -71,14 +81,14 @@ def _describe(diagram, name, X, Y, adjust, conditioned, limit: int, open_only: b
     # then, unless only open ones are asked for, the others in listing order.
     paths: list[list[str]] = []
     cut = False
-    for p in open_paths(g, X, Y, conditioned, shortest_first=True):
+    for p in open_paths(g, X, Y, conditioned, steps, shortest_first=True):
         if len(paths) >= limit:
             cut = True
             break
         paths.append(p)
     if not open_only and not cut:
         listed = {tuple(p) for p in paths}
-        for p in simple_paths(g, X, Y, shortest_first=True):
+        for p in simple_paths(g, X, Y, steps, shortest_first=True):
             if tuple(p) in listed:
                 continue
             if len(paths) >= limit:
@@ -88,8 +98,7 @@ def _describe(diagram, name, X, Y, adjust, conditioned, limit: int, open_only: b
                 break
             paths.append(p)
     rows = []
-    for p in paths:
-        info = describe_path(g, p, X, conditioned)
+    for p, info in zip(paths, describe_paths(g, paths, X, conditioned), strict=True):
         rows.append({
             "path": ["<->" if is_hidden(g, n) else n for n in p],
             "text": spell_path(g, p),
