@@ -139,6 +139,77 @@ def _close_to(
     return [b for b in border if any(reached[u] == 2 for u in nbrs[b])]
 
 
+def _toward(nbrs: Neighbours, targets: list[int]) -> Neighbours:
+    """Each vertex's neighbours, nearest to ``targets`` first (breadth-first
+    distance in the whole graph, ties in the original order; unreachable last)."""
+    n = len(nbrs)
+    dist = array("i", [n]) * n
+    frontier = []
+    for t in targets:
+        if dist[t]:
+            dist[t] = 0
+            frontier.append(t)
+    d = 0
+    while frontier:
+        d += 1
+        nxt = []
+        for v in frontier:
+            for w in nbrs[v]:
+                if dist[w] > d:
+                    dist[w] = d
+                    nxt.append(w)
+        frontier = nxt
+    key = dist.__getitem__
+    return [sorted(row, key=key) if len(row) > 1 else row for row in nbrs]
+
+
+def _touching_y_side(
+    toward_y: Neighbours, ys: list[int], side: bytearray, border_mark: bytearray, border: list[int]
+) -> set[int]:
+    """The border vertices with a neighbour in D, the part of the graph outside the
+    x side and its border that holds the y side.
+
+    The same answer as a search of all of D from ``ys``, without walking D: from
+    each border vertex's outside neighbours a depth-first search walks nearest
+    to Y first (``toward_y``) until it meets Y or a vertex already known to be
+    in D; a search that runs out has found a pocket enclosed by the border. Each
+    vertex is settled once per call (in D, or in a pocket), so a call is linear
+    at worst; when D is large and near, it costs about the routes to Y.
+    """
+    state = bytearray(len(toward_y))  # 1: in D; 2: in a pocket; 3: on the current search
+    for y in ys:
+        state[y] = 1
+    touching = set()
+    for b in border:
+        for u in toward_y[b]:
+            if side[u] or border_mark[u] or state[u] == 2:
+                continue
+            if state[u] == 0:
+                state[u] = 3
+                visited, stack, found = [u], [u], False
+                while stack and not found:
+                    v = stack.pop()
+                    row = toward_y[v]
+                    for i in range(len(row) - 1, -1, -1):  # nearest to Y popped first
+                        w = row[i]
+                        if side[w] or border_mark[w]:
+                            continue
+                        if state[w] == 1:
+                            found = True
+                            break
+                        if state[w] == 0:
+                            state[w] = 3
+                            visited.append(w)
+                            stack.append(w)
+                mark = 1 if found else 2
+                for v in visited:
+                    state[v] = mark
+            if state[u] == 1:
+                touching.add(b)
+                break
+    return touching
+
+
 def _separator_search(
     nbrs: Neighbours, xs: list[int], ys: list[int], removable: bytes | bytearray
 ) -> Iterator[list[int] | None]:
@@ -155,6 +226,7 @@ def _separator_search(
     for y in ys:
         for u in nbrs[y]:
             near_y[u] = 1
+    toward_y = _toward(nbrs, ys)
     stack: list[tuple[list[int], tuple[int, ...]]] = [(list(xs), ())]
     while stack:
         seed, forced = stack.pop()
@@ -163,8 +235,7 @@ def _separator_search(
             if any(side[y] for y in ys):  # the x side touches the y side: nothing separates
                 ok = False
                 break
-            reached = _reach(nbrs, ys, border_mark)
-            touching = {b for b in border if any(reached[u] == 2 for u in nbrs[b])}
+            touching = _touching_y_side(toward_y, ys, side, border_mark, border)
             ok = all(f in touching for f in forced)
             if not ok or len(touching) == len(border):
                 break
