@@ -63,35 +63,64 @@ def spell_path(graph, path: Iterable[str]) -> str:
     return "".join(parts)
 
 
-def close_names(name: str, known: Iterable[str], n: int = 3) -> list[str]:
-    """Up to `n` known names a misspelt `name` may have meant, best first.
+# Most name comparisons (difflib's ratio, a few microseconds each) that one
+# list of hints may take: a rule that hints for thousands of names against
+# thousands of known ones would otherwise grow with the product of the two.
+SPELLING_BUDGET = 250_000
 
-    A match that differs only in case first; then one close spelling
-    (difflib's ratio, Ratcliff/Obershelp matching, as in the standard library:
-    one is a clear hint, several a guessing game); and when nothing is close,
-    names that contain the given one as a part (`collider` for
-    `collider-adjusted`).
+
+class Speller:
+    """Close spellings among one list of known names, for `queries` names.
+
+    The list and its lower-case index are built once. When `queries` names
+    against the known ones would take more than `SPELLING_BUDGET` comparisons,
+    only the match that differs in case is offered (a dict look-up), for every
+    name alike, so which names get a hint never depends on their order.
     """
-    known = list(dict.fromkeys(known))
-    lowered = {k.lower(): k for k in known}
-    if name.lower() in lowered:
-        return [lowered[name.lower()]]
-    out = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
-    if not out and len(name) >= 3:
-        for k in known:
-            parts = k.lower().replace("_", "-").split("-")
-            if (name.lower() in parts or k.lower().startswith(name.lower())) and k not in out:
-                out.append(k)
-    return out[:n]
+
+    __slots__ = ("known", "lowered", "spell")
+
+    def __init__(self, known: Iterable[str], queries: int = 1):
+        self.known = list(dict.fromkeys(known))
+        self.lowered = {k.lower(): k for k in self.known}
+        self.spell = queries * len(self.known) <= SPELLING_BUDGET
+
+    def close(self, name: str, n: int = 3) -> list[str]:
+        """Up to `n` known names a misspelt `name` may have meant, best first.
+
+        A match that differs only in case first; then one close spelling
+        (difflib's ratio, Ratcliff/Obershelp matching, as in the standard library:
+        one is a clear hint, several a guessing game); and when nothing is close,
+        names that contain the given one as a part (`collider` for
+        `collider-adjusted`).
+        """
+        lowered = self.lowered.get(name.lower())
+        if lowered is not None:
+            return [lowered]
+        if not self.spell:
+            return []
+        known = self.known
+        out = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
+        if not out and len(name) >= 3:
+            for k in known:
+                parts = k.lower().replace("_", "-").split("-")
+                if (name.lower() in parts or k.lower().startswith(name.lower())) and k not in out:
+                    out.append(k)
+        return out[:n]
 
 
-def closest_name(name: str, known: Iterable[str]) -> str | None:
+def close_names(name: str, known: Iterable[str] | Speller, n: int = 3) -> list[str]:
+    """Up to `n` known names a misspelt `name` may have meant (see `Speller.close`)."""
+    return (known if isinstance(known, Speller) else Speller(known)).close(name, n)
+
+
+def closest_name(name: str, known: Iterable[str] | Speller) -> str | None:
     """The one known name a misspelt name most likely meant, or None."""
     close = close_names(name, known, n=1)
     return close[0] if close else None
 
 
-def did_you_mean(name: str, known: Iterable[str]) -> str:
+def did_you_mean(name: str, known: Iterable[str] | Speller) -> str:
     """`; did you mean `x`?` (or `x` or `y`), or nothing when no known name is close."""
     close = close_names(name, known)
     if not close:

@@ -23,7 +23,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ..wording import did_you_mean
+from ..wording import Speller, did_you_mean
 from .base import Context, Rule
 
 
@@ -33,15 +33,19 @@ def check(ctx: Context) -> Iterator[Finding]:
         connected.add(arrow.source.text)
         connected.add(arrow.target.text)
     # a variable with arrows and a close spelling is what a misspelt name meant
-    candidates = sorted(connected)
-    for name, first in ctx.diagram.variables.items():
-        if name not in connected:
-            yield ctx.finding(
-                RULE,
-                first.span,
-                f"`{name}` has no arrows: add the arrows that connect it, or remove it"
-                f"{did_you_mean(name, candidates)}",
-            )
+    isolated = [
+        (name, first) for name, first in ctx.diagram.variables.items() if name not in connected
+    ]
+    if not isolated:
+        return
+    candidates = Speller(sorted(connected), queries=len(isolated))
+    for name, first in isolated:
+        yield ctx.finding(
+            RULE,
+            first.span,
+            f"`{name}` has no arrows: add the arrows that connect it, or remove it"
+            f"{did_you_mean(name, candidates)}",
+        )
 
 
 RULE = Rule(

@@ -29,7 +29,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ..wording import closest_name
+from ..wording import Speller, closest_name
 from .base import Context, Rule
 
 
@@ -44,10 +44,15 @@ def check(ctx: Context) -> Iterator[Finding]:
         with_arrows.add(arrow.target.text)
     # a period name that no variable has is the likely misspelling
     strays = sorted(in_period - with_arrows)
-    for name, first in diagram.variables.items():
-        if name in in_period or name not in with_arrows or name in diagram.unmeasured:
-            continue
-        stray = closest_name(name, strays)
+    unmeasured = diagram.unmeasured
+    outside = [
+        (name, first)
+        for name, first in diagram.variables.items()
+        if name not in in_period and name in with_arrows and name not in unmeasured
+    ]
+    speller = Speller(strays, queries=len(outside))
+    for name, first in outside:
+        stray = closest_name(name, speller)
         hint = f" (`{stray}` in a period list may be a misspelling of it)" if stray else ""
         yield ctx.finding(
             RULE,
