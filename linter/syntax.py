@@ -80,6 +80,10 @@ def _name(tok: Token) -> Name:
     return Name(str(tok), Span(tok.line, tok.column, tok.line, tok.end_column))
 
 
+# The arrow operators, one str each however many lines use them.
+_OPERATORS = {"->": "->", "<->": "<->"}
+
+
 def _join(first: Span, last: Span) -> Span:
     return Span(first.line, first.column, last.end_line, last.end_column)
 
@@ -100,12 +104,25 @@ class _Builder(Transformer):
     def __init__(self) -> None:
         super().__init__(visit_tokens=False)
         self.comments: list[Comment] = []
+        self.reset()
+
+    def reset(self) -> None:
+        """Forget the previous file (called before every parse)."""
+        self.comments = []
+        # Every occurrence of a name shares one str (a variable is named on
+        # several lines); the dict lives for one parse only.
+        self.texts: dict[str, str] = {}
+
+    def _name(self, tok: Token) -> Name:
+        text = str(tok)
+        text = self.texts.setdefault(text, text)
+        return Name(text, Span(tok.line, tok.column, tok.line, tok.end_column))
 
     # statements -------------------------------------------------------------
     def names(self, children):
         # The contextual lexer reads `none` as a name where only names fit
         # (`exposure: none`); it is reserved for `adjust: none`.
-        names = tuple(_name(t) for t in children if t.type == "NAME")
+        names = tuple(self._name(t) for t in children if t.type == "NAME")
         for n in names:
             if n.text in RESERVED_WORDS:
                 raise _ReservedName(n)
@@ -121,15 +138,15 @@ class _Builder(Transformer):
 
     def label(self, children):
         kw, target, string = children
-        return LabelStatement(_name(target), str(string), _join(_span(kw), _span(string)))
+        return LabelStatement(self._name(target), str(string), _join(_span(kw), _span(string)))
 
     def period(self, children):
         kw, period, _colon, names = children
-        return PeriodStatement(_name(period), names, _join(_span(kw), names[-1].span))
+        return PeriodStatement(self._name(period), names, _join(_span(kw), names[-1].span))
 
     def arrows(self, children):
         groups = children[0::2]
-        operators = [str(t) for t in children[1::2]]
+        operators = [_OPERATORS[t] for t in children[1::2]]
         return ArrowStatement(
             tuple(groups),
             tuple(operators),
@@ -142,11 +159,14 @@ class _Builder(Transformer):
         (tok,) = children
         if tok.count("\n") == 1:
             return [self._arrow_statement(tok, tok.line, tok.column)]
-        first = tok.line
-        return [
-            self._arrow_statement(text + "\n", first + i, 1)
-            for i, text in enumerate(tok.split("\n")[:-1])
-        ]
+        # one line at a time (a list of every line of a long run would be as
+        # large as the text again, all at once)
+        out, start, line, arrow_statement = [], 0, tok.line, self._arrow_statement
+        while start < len(tok):
+            end = tok.index("\n", start) + 1
+            out.append(arrow_statement(tok[start:end], line, 1))
+            start, line = end, line + 1
+        return out
 
     def _arrow_statement(self, tok: str, line: int, col0: int) -> ArrowStatement:
         """Split one arrow line (with its newline) into names and operators.
@@ -158,6 +178,12 @@ class _Builder(Transformer):
         if single is not None:
             src, op, dst, comment = single.groups()
             if src not in RESERVED_WORDS and dst not in RESERVED_WORDS:
+                texts = self.texts
+                src, dst, op = (
+                    texts.setdefault(src, src),
+                    texts.setdefault(dst, dst),
+                    _OPERATORS[op],
+                )
                 c1, c3 = col0 + single.start(1), col0 + single.start(3)
                 # tuple.__new__ builds the named tuples without their Python-level
                 # __new__ (a third of the cost of a line); same objects.
@@ -180,7 +206,7 @@ class _Builder(Transformer):
             if ch == ",":
                 continue
             if ch == "-" or ch == "<":
-                operators.append(piece)
+                operators.append(_OPERATORS[piece])
                 groups.append(tuple(current))
                 current = []
             elif ch == "#":
@@ -191,6 +217,7 @@ class _Builder(Transformer):
                     col = col0 + m.start()
                     raise _ReservedName(Name(piece, Span(line, col, line, col + len(piece))))
                 col = col0 + m.start()
+                piece = self.texts.setdefault(piece, piece)
                 current.append(Name(piece, Span(line, col, line, col + len(piece))))
         groups.append(tuple(current))
         first, last = groups[0][0].span, groups[-1][-1].span
@@ -221,7 +248,7 @@ class _Builder(Transformer):
         name_token = None
         i = 1
         if isinstance(children[1], Token) and children[1].type == "NAME":
-            name_token = _name(children[1])
+            name_token = self._name(children[1])
             i = 2
         brace = children[i]
         entries = []
@@ -287,10 +314,13 @@ def _token_lexer() -> Lark:
 
 def _parse_statements(text: str) -> tuple[list, list[Comment]]:
     lark, builder = _parser()
-    builder.comments = []
-    with collector_paused():  # see linter/gcpause.py
-        statements = lark.parse(text)
-    comments = sorted(builder.comments, key=lambda c: (c.span.line, c.span.column))
+    builder.reset()
+    try:
+        with collector_paused():  # see linter/gcpause.py
+            statements = lark.parse(text)
+        comments = sorted(builder.comments, key=lambda c: (c.span.line, c.span.column))
+    finally:
+        builder.reset()  # the builder keeps nothing of this file
     return statements, comments
 
 
