@@ -68,26 +68,80 @@ class Comment(NamedTuple):
         return self.text[1:].strip()
 
 
-class Arrow(NamedTuple):
-    """One cause-effect pair. `bidirected` is `A <-> B` (a hidden common cause)."""
+class Arrow:
+    """One cause-effect pair. `bidirected` is `A <-> B` (a hidden common cause).
 
-    source: Name
-    target: Name
-    bidirected: bool
-    span: Span  # from the start of the source name to the end of the target name
+    A large diagram is mostly arrows, so an arrow keeps only what its positions
+    are made of: the two names, the line and the two columns (an 80-byte object
+    whose name strings are shared with the rest of the model, against about 400
+    bytes for named tuples of names and spans). `source`, `target` and `span` are
+    built when read. An arrow compares, hashes, orders and unpacks as the tuple
+    (source, target, bidirected, span).
+    """
+
+    __slots__ = ("source_text", "target_text", "bidirected", "line", "source_column",
+                 "target_column")  # fmt: skip
+
+    def __init__(
+        self,
+        source_text: str,
+        target_text: str,
+        bidirected: bool,
+        line: int,
+        source_column: int,
+        target_column: int,
+    ):
+        self.source_text = source_text
+        self.target_text = target_text
+        self.bidirected = bidirected
+        self.line = line
+        self.source_column = source_column
+        self.target_column = target_column
 
     @property
-    def line(self) -> int:
-        return self.span.line
+    def source(self) -> Name:
+        line, column = self.line, self.source_column
+        return Name(self.source_text, Span(line, column, line, column + len(self.source_text)))
+
+    @property
+    def target(self) -> Name:
+        line, column = self.line, self.target_column
+        return Name(self.target_text, Span(line, column, line, column + len(self.target_text)))
+
+    @property
+    def span(self) -> Span:
+        """From the start of the source name to the end of the target name."""
+        line = self.line
+        return Span(line, self.source_column, line, self.target_column + len(self.target_text))
 
     def describe(self) -> str:
         op = "<->" if self.bidirected else "->"
-        return f"{self.source.text} {op} {self.target.text}"
+        return f"{self.source_text} {op} {self.target_text}"
 
     @property
     def key(self) -> tuple[str, str, str]:
         """What makes two statements the same arrow: `a <-> b` is `b <-> a`."""
-        return arrow_key(self.source.text, self.target.text, self.bidirected)
+        return arrow_key(self.source_text, self.target_text, self.bidirected)
+
+    def _fields(self) -> tuple[Name, Name, bool, Span]:
+        return (self.source, self.target, self.bidirected, self.span)
+
+    def __iter__(self) -> Iterator:
+        return iter(self._fields())
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Arrow):
+            return NotImplemented
+        return self._fields() == other._fields()
+
+    def __lt__(self, other: Arrow) -> bool:
+        return self._fields() < other._fields()
+
+    def __hash__(self) -> int:
+        return hash(self._fields())
+
+    def __repr__(self) -> str:
+        return "Arrow(source={!r}, target={!r}, bidirected={!r}, span={!r})".format(*self._fields())
 
 
 def arrow_key(source: str, target: str, bidirected: bool) -> tuple[str, str, str]:
@@ -131,13 +185,74 @@ class PeriodStatement:
     span: Span
 
 
-class ArrowStatement(NamedTuple):
-    """`a, b -> c <-> d`: groups of names joined by arrow operators (a tuple: see Span)."""
+_OPERATOR = {False: "->", True: "<->"}
 
-    groups: tuple[tuple[Name, ...], ...]
-    operators: tuple[str, ...]
-    arrows: tuple[Arrow, ...]
-    span: Span
+
+class ArrowStatement:
+    """`a, b -> c <-> d`: groups of names joined by arrow operators.
+
+    A line with a single arrow (nearly every line of a large diagram) keeps only
+    that arrow, and its groups, operators and span are built when read; other
+    lines keep all four. A statement compares, hashes and unpacks as the tuple
+    (groups, operators, arrows, span).
+    """
+
+    __slots__ = ("_kept",)
+
+    def __init__(
+        self,
+        groups: tuple[tuple[Name, ...], ...],
+        operators: tuple[str, ...],
+        arrows: tuple[Arrow, ...],
+        span: Span,
+    ):
+        self._kept: Arrow | tuple = (groups, operators, arrows, span)
+
+    @classmethod
+    def single(cls, arrow: Arrow) -> ArrowStatement:
+        """The statement of a line that is one arrow, `a -> b` or `a <-> b`."""
+        statement = cls.__new__(cls)
+        statement._kept = arrow
+        return statement
+
+    @property
+    def groups(self) -> tuple[tuple[Name, ...], ...]:
+        kept = self._kept
+        return ((kept.source,), (kept.target,)) if type(kept) is Arrow else kept[0]
+
+    @property
+    def operators(self) -> tuple[str, ...]:
+        kept = self._kept
+        return (_OPERATOR[kept.bidirected],) if type(kept) is Arrow else kept[1]
+
+    @property
+    def arrows(self) -> tuple[Arrow, ...]:
+        kept = self._kept
+        return (kept,) if type(kept) is Arrow else kept[2]
+
+    @property
+    def span(self) -> Span:
+        kept = self._kept
+        return kept.span if type(kept) is Arrow else kept[3]
+
+    def _fields(self) -> tuple:
+        return (self.groups, self.operators, self.arrows, self.span)
+
+    def __iter__(self) -> Iterator:
+        return iter(self._fields())
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, ArrowStatement):
+            return NotImplemented
+        return self._fields() == other._fields()
+
+    def __hash__(self) -> int:
+        return hash(self._fields())
+
+    def __repr__(self) -> str:
+        return "ArrowStatement(groups={!r}, operators={!r}, arrows={!r}, span={!r})".format(
+            *self._fields()
+        )
 
 
 RoleKey = Literal["exposure", "outcome", "adjust", "effect", "mediator", "restricted"]
@@ -310,6 +425,13 @@ class Diagram:
         found: dict[str, Name] = {}
         for s in self.statements:
             if isinstance(s, ArrowStatement):
+                kept = s._kept
+                if type(kept) is Arrow:  # a one-arrow line: a Name only for a new variable
+                    if kept.source_text not in found:
+                        found[kept.source_text] = kept.source
+                    if kept.target_text not in found:
+                        found[kept.target_text] = kept.target
+                    continue
                 for group in s.groups:
                     for n in group:
                         found.setdefault(n.text, n)
@@ -368,11 +490,11 @@ class Diagram:
         directed = []
         for a in self.arrows:
             if a.bidirected:
-                h = hidden_node_name(a.source.text, a.target.text)
-                directed.append((h, a.source.text))
-                directed.append((h, a.target.text))
+                h = hidden_node_name(a.source_text, a.target_text)
+                directed.append((h, a.source_text))
+                directed.append((h, a.target_text))
             else:
-                directed.append((a.source.text, a.target.text))
+                directed.append((a.source_text, a.target_text))
         hidden = sorted({h for h, _ in directed if h not in g})
         g.add_nodes_from(hidden, hidden=True)
         directed.sort()
@@ -386,7 +508,7 @@ class Diagram:
 
         g = nx.DiGraph()
         g.add_nodes_from(self.variables)
-        g.add_edges_from((a.source.text, a.target.text) for a in self.arrows if not a.bidirected)
+        g.add_edges_from((a.source_text, a.target_text) for a in self.arrows if not a.bidirected)
         return nx.freeze(g)
 
 

@@ -59,7 +59,6 @@ def grammar_text() -> str:
 
 # --- building the model while parsing ---------------------------------------------
 
-_new = tuple.__new__
 _ARROW_LINE_PIECE = re.compile(r"[^\W\d][\w.]*|<->|->|,|#[^\n]*")
 # the most common line, `a -> b  # reason`, in one match
 _SINGLE_ARROW = re.compile(
@@ -94,7 +93,10 @@ def _make_arrows(groups: list[tuple[Name, ...]], operators: list[str]) -> tuple[
         bidirected = op == "<->"
         for src in groups[i]:
             for dst in groups[i + 1]:
-                arrows.append(Arrow(src, dst, bidirected, _join(src.span, dst.span)))
+                arrows.append(
+                    Arrow(src.text, dst.text, bidirected, src.span.line, src.span.column,
+                          dst.span.column)
+                )  # fmt: skip
     return tuple(arrows)
 
 
@@ -147,10 +149,13 @@ class _Builder(Transformer):
     def arrows(self, children):
         groups = children[0::2]
         operators = [_OPERATORS[t] for t in children[1::2]]
+        arrows = _make_arrows(groups, operators)
+        if len(arrows) == 1:
+            return ArrowStatement.single(arrows[0])
         return ArrowStatement(
             tuple(groups),
             tuple(operators),
-            _make_arrows(groups, operators),
+            arrows,
             _join(groups[0][0].span, groups[-1][-1].span),
         )
 
@@ -179,24 +184,17 @@ class _Builder(Transformer):
             src, op, dst, comment = single.groups()
             if src not in RESERVED_WORDS and dst not in RESERVED_WORDS:
                 texts = self.texts
-                src, dst, op = (
-                    texts.setdefault(src, src),
-                    texts.setdefault(dst, dst),
-                    _OPERATORS[op],
-                )
-                c1, c3 = col0 + single.start(1), col0 + single.start(3)
-                # tuple.__new__ builds the named tuples without their Python-level
-                # __new__ (a third of the cost of a line); same objects.
-                source = _new(Name, (src, _new(Span, (line, c1, line, c1 + len(src)))))
-                target = _new(Name, (dst, _new(Span, (line, c3, line, c3 + len(dst)))))
-                span = _new(Span, (line, c1, line, c3 + len(dst)))
                 if comment is not None:
                     c4 = col0 + single.start(4)
                     self.comments.append(
                         Comment(comment, Span(line, c4, line, c4 + len(comment)), True)
                     )
-                arrow = _new(Arrow, (source, target, op == "<->", span))
-                return _new(ArrowStatement, (((source,), (target,)), (op,), (arrow,), span))
+                # the one-arrow statement keeps only the arrow, which keeps only
+                # the shared name strings, the line and the columns
+                return ArrowStatement.single(
+                    Arrow(texts.setdefault(src, src), texts.setdefault(dst, dst), op == "<->",
+                          line, col0 + single.start(1), col0 + single.start(3))
+                )  # fmt: skip
         groups: list[tuple[Name, ...]] = []
         current: list[Name] = []
         operators: list[str] = []
@@ -221,14 +219,9 @@ class _Builder(Transformer):
                 current.append(Name(piece, Span(line, col, line, col + len(piece))))
         groups.append(tuple(current))
         first, last = groups[0][0].span, groups[-1][-1].span
-        if len(operators) == 1 and len(groups[0]) == 1 and len(groups[1]) == 1:
-            # the common `a -> b` line
-            arrows = (
-                Arrow(groups[0][0], groups[1][0], operators[0] == "<->",
-                      Span(line, first.column, line, last.end_column)),
-            )  # fmt: skip
-        else:
-            arrows = _make_arrows(groups, operators)
+        arrows = _make_arrows(groups, operators)
+        if len(arrows) == 1:
+            return ArrowStatement.single(arrows[0])
         return ArrowStatement(
             tuple(groups), tuple(operators), arrows, Span(line, first.column, line, last.end_column)
         )
