@@ -6,6 +6,7 @@ rules, reporters, formatter and renderer only read it. Nothing here does I/O.
 
 from __future__ import annotations
 
+import weakref
 from collections.abc import Iterator
 from dataclasses import dataclass, field
 from functools import cached_property
@@ -13,6 +14,8 @@ from typing import TYPE_CHECKING, Literal, NamedTuple
 
 if TYPE_CHECKING:  # networkx is imported lazily: `fmt` never needs it
     import networkx as nx
+
+    from .causal.compact import CompactGraph
 
 # Words that start a statement or an analysis entry. They are keywords only there
 # (the grammar's lexer is contextual): anywhere a name is expected they are names,
@@ -185,7 +188,9 @@ class PeriodStatement:
     span: Span
 
 
-_OPERATOR = {False: "->", True: "<->"}
+# The arrow operators: one str each, shared by every statement (the parser's too).
+OPERATORS = {"->": "->", "<->": "<->"}
+_OPERATOR = {False: OPERATORS["->"], True: OPERATORS["<->"]}
 
 
 class ArrowStatement:
@@ -500,6 +505,61 @@ class Diagram:
         directed.sort()
         g.add_edges_from(directed)
         return g
+
+    @cached_property
+    def compact_graph(self) -> CompactGraph:
+        """The causal graph of `graph`, kept only as the integer index the searches
+        read (`dagward.causal.compact`), built without networkx: `check` runs on it.
+
+        Variables are numbered in `graph`'s node order and each variable's children
+        and parents listed in `graph`'s order, so every search answers exactly as on
+        `graph`. Reading what the compact graph does not keep builds `graph` then.
+        """
+        from array import array
+
+        from .causal.compact import CompactGraph
+        from .causal.graph import hidden_node_name
+        from .causal.indexed import Indexed
+
+        pairs = []
+        hidden = set()
+        for a in self.arrows:
+            if a.bidirected:
+                h = hidden_node_name(a.source_text, a.target_text)
+                hidden.add(h)
+                pairs.append((h, a.source_text))
+                pairs.append((h, a.target_text))
+            else:
+                pairs.append((a.source_text, a.target_text))
+        variables = sorted(self.variables)
+        names = variables + sorted(hidden)
+        del hidden
+        index = {v: i for i, v in enumerate(names)}
+        # arrows in the order of `graph` (sorted by names: a hidden parent's name
+        # sorts apart from its node number), as one integer each
+        by_name = sorted(range(len(names)), key=names.__getitem__)
+        rank = array("i", bytes(4 * len(names)))
+        for r, i in enumerate(by_name):
+            rank[i] = r
+        size = len(names)
+        keys = sorted({rank[index[u]] * size + rank[index[v]] for u, v in pairs})
+        del pairs
+        succ = [array("i") for _ in names]
+        pred = [array("i") for _ in names]
+        for key in keys:
+            u, v = by_name[key // size], by_name[key % size]
+            succ[u].append(v)
+            pred[v].append(u)
+        del keys
+        ix = Indexed.from_rows(names, succ, pred, index)
+        diagram = weakref.ref(self)  # no reference cycle through the graph
+
+        def full() -> nx.DiGraph:
+            d = diagram()
+            assert d is not None
+            return d.graph
+
+        return CompactGraph(ix, len(variables), full)
 
     @cached_property
     def directed_graph_without_hidden(self) -> nx.DiGraph:

@@ -37,6 +37,9 @@ from .model import (
     TitleStatement,
     UnmeasuredStatement,
 )
+from .model import (
+    OPERATORS as _OPERATORS,
+)
 
 
 @dataclass(frozen=True)
@@ -77,10 +80,6 @@ def _span(tok: Token) -> Span:
 
 def _name(tok: Token) -> Name:
     return Name(str(tok), Span(tok.line, tok.column, tok.line, tok.end_column))
-
-
-# The arrow operators, one str each however many lines use them.
-_OPERATORS = {"->": "->", "<->": "<->"}
 
 
 def _join(first: Span, last: Span) -> Span:

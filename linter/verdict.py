@@ -146,13 +146,15 @@ class Verdict:
         diagram: Diagram,
         analysis: Analysis,
         *,
+        graph=None,
         _part: str | None = None,
         _roles: tuple | None = None,
     ):
         self.diagram = diagram
         self.analysis = analysis
         self.name = analysis.name
-        self.graph = diagram.graph
+        # `check` passes `diagram.compact_graph` (same answers, no networkx graph)
+        self.graph = diagram.graph if graph is None else graph
         self.measured = diagram.measured
         self.part = _part
         question = analysis.effect
@@ -521,7 +523,7 @@ class Verdict:
             MEDIATOR_OUTCOME: (M, Y, Z, X),
         }
         return {
-            part: Verdict(self.diagram, self.analysis, _part=part, _roles=r)
+            part: Verdict(self.diagram, self.analysis, graph=self.graph, _part=part, _roles=r)
             for part, r in roles.items()
         }
 

@@ -76,5 +76,6 @@ class Context:
             self._verdicts = {}
         key = analysis.name
         if key not in self._verdicts:
-            self._verdicts[key] = Verdict(self.diagram, analysis)
+            # the compact graph: the rules never need networkx's
+            self._verdicts[key] = Verdict(self.diagram, analysis, graph=self.diagram.compact_graph)
         return self._verdicts[key]

@@ -34,7 +34,7 @@ def check(ctx: Context) -> Iterator[Finding]:
 
     diagram = ctx.diagram
     # hidden `<->` parents have no incoming arrows, so they are never on a cycle
-    graph = diagram.graph
+    graph = diagram.compact_graph  # networkx's graph is built only for a cycle
     suspects = _not_topologically_sortable(graph)
     if not suspects:
         return
