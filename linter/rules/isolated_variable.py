@@ -30,8 +30,8 @@ from .base import Context, Rule
 def check(ctx: Context) -> Iterator[Finding]:
     connected: set[str] = set()
     for arrow in ctx.diagram.arrows:
-        connected.add(arrow.source.text)
-        connected.add(arrow.target.text)
+        connected.add(arrow.source_text)
+        connected.add(arrow.target_text)
     # a variable with arrows and a close spelling is what a misspelt name meant
     isolated = [
         (name, first) for name, first in ctx.diagram.variables.items() if name not in connected

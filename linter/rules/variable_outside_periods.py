@@ -40,8 +40,8 @@ def check(ctx: Context) -> Iterator[Finding]:
     in_period = {n.text for _head, members in diagram.periods for n in members}
     with_arrows: set[str] = set()
     for arrow in diagram.arrows:
-        with_arrows.add(arrow.source.text)
-        with_arrows.add(arrow.target.text)
+        with_arrows.add(arrow.source_text)
+        with_arrows.add(arrow.target_text)
     # a period name that no variable has is the likely misspelling
     strays = sorted(in_period - with_arrows)
     unmeasured = diagram.unmeasured
