@@ -7,7 +7,7 @@ rules, reporters, formatter and renderer only read it. Nothing here does I/O.
 from __future__ import annotations
 
 import weakref
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import TYPE_CHECKING, Literal, NamedTuple
@@ -462,6 +462,28 @@ class Diagram:
         for arrow in self.arrows:
             index.setdefault(arrow.key, arrow)
         return index
+
+    def first_arrows(
+        self, keys: Iterable[tuple[str, str, str]]
+    ) -> dict[tuple[str, str, str], Arrow]:
+        """The first statement of each of `keys` (`arrow_key`s) the diagram states.
+
+        One pass over the arrows, keeping only the arrows asked for: cheaper than
+        `arrow_index` (a key for every arrow of the diagram) when a few are wanted.
+        """
+        if "arrow_index" in self.__dict__:
+            index = self.arrow_index
+            return {k: index[k] for k in keys if k in index}
+        wanted = set(keys)
+        found: dict[tuple[str, str, str], Arrow] = {}
+        for arrow in self.arrows:
+            if arrow.bidirected:
+                key = arrow.key
+            else:
+                key = ("->", arrow.source_text, arrow.target_text)
+            if key in wanted and key not in found:
+                found[key] = arrow
+        return found
 
     def analysis(self, name: str) -> Analysis:
         for a in self.analyses:
