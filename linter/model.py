@@ -6,13 +6,16 @@ rules, reporters, formatter and renderer only read it. Nothing here does I/O.
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+import weakref
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import TYPE_CHECKING, Literal, NamedTuple
 
 if TYPE_CHECKING:  # networkx is imported lazily: `fmt` never needs it
     import networkx as nx
+
+    from .causal.compact import CompactGraph
 
 # Words that start a statement or an analysis entry. They are keywords only there
 # (the grammar's lexer is contextual): anywhere a name is expected they are names,
@@ -68,26 +71,80 @@ class Comment(NamedTuple):
         return self.text[1:].strip()
 
 
-class Arrow(NamedTuple):
-    """One cause-effect pair. `bidirected` is `A <-> B` (a hidden common cause)."""
+class Arrow:
+    """One cause-effect pair. `bidirected` is `A <-> B` (a hidden common cause).
 
-    source: Name
-    target: Name
-    bidirected: bool
-    span: Span  # from the start of the source name to the end of the target name
+    A large diagram is mostly arrows, so an arrow keeps only what its positions
+    are made of: the two names, the line and the two columns (an 80-byte object
+    whose name strings are shared with the rest of the model, against about 400
+    bytes for named tuples of names and spans). `source`, `target` and `span` are
+    built when read. An arrow compares, hashes, orders and unpacks as the tuple
+    (source, target, bidirected, span).
+    """
+
+    __slots__ = ("source_text", "target_text", "bidirected", "line", "source_column",
+                 "target_column")  # fmt: skip
+
+    def __init__(
+        self,
+        source_text: str,
+        target_text: str,
+        bidirected: bool,
+        line: int,
+        source_column: int,
+        target_column: int,
+    ):
+        self.source_text = source_text
+        self.target_text = target_text
+        self.bidirected = bidirected
+        self.line = line
+        self.source_column = source_column
+        self.target_column = target_column
 
     @property
-    def line(self) -> int:
-        return self.span.line
+    def source(self) -> Name:
+        line, column = self.line, self.source_column
+        return Name(self.source_text, Span(line, column, line, column + len(self.source_text)))
+
+    @property
+    def target(self) -> Name:
+        line, column = self.line, self.target_column
+        return Name(self.target_text, Span(line, column, line, column + len(self.target_text)))
+
+    @property
+    def span(self) -> Span:
+        """From the start of the source name to the end of the target name."""
+        line = self.line
+        return Span(line, self.source_column, line, self.target_column + len(self.target_text))
 
     def describe(self) -> str:
         op = "<->" if self.bidirected else "->"
-        return f"{self.source.text} {op} {self.target.text}"
+        return f"{self.source_text} {op} {self.target_text}"
 
     @property
     def key(self) -> tuple[str, str, str]:
         """What makes two statements the same arrow: `a <-> b` is `b <-> a`."""
-        return arrow_key(self.source.text, self.target.text, self.bidirected)
+        return arrow_key(self.source_text, self.target_text, self.bidirected)
+
+    def _fields(self) -> tuple[Name, Name, bool, Span]:
+        return (self.source, self.target, self.bidirected, self.span)
+
+    def __iter__(self) -> Iterator:
+        return iter(self._fields())
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Arrow):
+            return NotImplemented
+        return self._fields() == other._fields()
+
+    def __lt__(self, other: Arrow) -> bool:
+        return self._fields() < other._fields()
+
+    def __hash__(self) -> int:
+        return hash(self._fields())
+
+    def __repr__(self) -> str:
+        return "Arrow(source={!r}, target={!r}, bidirected={!r}, span={!r})".format(*self._fields())
 
 
 def arrow_key(source: str, target: str, bidirected: bool) -> tuple[str, str, str]:
@@ -131,13 +188,76 @@ class PeriodStatement:
     span: Span
 
 
-class ArrowStatement(NamedTuple):
-    """`a, b -> c <-> d`: groups of names joined by arrow operators (a tuple: see Span)."""
+# The arrow operators: one str each, shared by every statement (the parser's too).
+OPERATORS = {"->": "->", "<->": "<->"}
+_OPERATOR = {False: OPERATORS["->"], True: OPERATORS["<->"]}
 
-    groups: tuple[tuple[Name, ...], ...]
-    operators: tuple[str, ...]
-    arrows: tuple[Arrow, ...]
-    span: Span
+
+class ArrowStatement:
+    """`a, b -> c <-> d`: groups of names joined by arrow operators.
+
+    A line with a single arrow (nearly every line of a large diagram) keeps only
+    that arrow, and its groups, operators and span are built when read; other
+    lines keep all four. A statement compares, hashes and unpacks as the tuple
+    (groups, operators, arrows, span).
+    """
+
+    __slots__ = ("_kept",)
+
+    def __init__(
+        self,
+        groups: tuple[tuple[Name, ...], ...],
+        operators: tuple[str, ...],
+        arrows: tuple[Arrow, ...],
+        span: Span,
+    ):
+        self._kept: Arrow | tuple = (groups, operators, arrows, span)
+
+    @classmethod
+    def single(cls, arrow: Arrow) -> ArrowStatement:
+        """The statement of a line that is one arrow, `a -> b` or `a <-> b`."""
+        statement = cls.__new__(cls)
+        statement._kept = arrow
+        return statement
+
+    @property
+    def groups(self) -> tuple[tuple[Name, ...], ...]:
+        kept = self._kept
+        return ((kept.source,), (kept.target,)) if type(kept) is Arrow else kept[0]
+
+    @property
+    def operators(self) -> tuple[str, ...]:
+        kept = self._kept
+        return (_OPERATOR[kept.bidirected],) if type(kept) is Arrow else kept[1]
+
+    @property
+    def arrows(self) -> tuple[Arrow, ...]:
+        kept = self._kept
+        return (kept,) if type(kept) is Arrow else kept[2]
+
+    @property
+    def span(self) -> Span:
+        kept = self._kept
+        return kept.span if type(kept) is Arrow else kept[3]
+
+    def _fields(self) -> tuple:
+        return (self.groups, self.operators, self.arrows, self.span)
+
+    def __iter__(self) -> Iterator:
+        return iter(self._fields())
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, ArrowStatement):
+            return NotImplemented
+        return self._fields() == other._fields()
+
+    def __hash__(self) -> int:
+        return hash(self._fields())
+
+    def __repr__(self) -> str:
+        return "ArrowStatement(groups={!r}, operators={!r}, arrows={!r}, span={!r})".format(
+            *self._fields()
+        )
 
 
 RoleKey = Literal["exposure", "outcome", "adjust", "effect", "mediator", "restricted"]
@@ -310,6 +430,13 @@ class Diagram:
         found: dict[str, Name] = {}
         for s in self.statements:
             if isinstance(s, ArrowStatement):
+                kept = s._kept
+                if type(kept) is Arrow:  # a one-arrow line: a Name only for a new variable
+                    if kept.source_text not in found:
+                        found[kept.source_text] = kept.source
+                    if kept.target_text not in found:
+                        found[kept.target_text] = kept.target
+                    continue
                 for group in s.groups:
                     for n in group:
                         found.setdefault(n.text, n)
@@ -335,6 +462,28 @@ class Diagram:
         for arrow in self.arrows:
             index.setdefault(arrow.key, arrow)
         return index
+
+    def first_arrows(
+        self, keys: Iterable[tuple[str, str, str]]
+    ) -> dict[tuple[str, str, str], Arrow]:
+        """The first statement of each of `keys` (`arrow_key`s) the diagram states.
+
+        One pass over the arrows, keeping only the arrows asked for: cheaper than
+        `arrow_index` (a key for every arrow of the diagram) when a few are wanted.
+        """
+        if "arrow_index" in self.__dict__:
+            index = self.arrow_index
+            return {k: index[k] for k in keys if k in index}
+        wanted = set(keys)
+        found: dict[tuple[str, str, str], Arrow] = {}
+        for arrow in self.arrows:
+            if arrow.bidirected:
+                key = arrow.key
+            else:
+                key = ("->", arrow.source_text, arrow.target_text)
+            if key in wanted and key not in found:
+                found[key] = arrow
+        return found
 
     def analysis(self, name: str) -> Analysis:
         for a in self.analyses:
@@ -368,16 +517,71 @@ class Diagram:
         directed = []
         for a in self.arrows:
             if a.bidirected:
-                h = hidden_node_name(a.source.text, a.target.text)
-                directed.append((h, a.source.text))
-                directed.append((h, a.target.text))
+                h = hidden_node_name(a.source_text, a.target_text)
+                directed.append((h, a.source_text))
+                directed.append((h, a.target_text))
             else:
-                directed.append((a.source.text, a.target.text))
+                directed.append((a.source_text, a.target_text))
         hidden = sorted({h for h, _ in directed if h not in g})
         g.add_nodes_from(hidden, hidden=True)
         directed.sort()
         g.add_edges_from(directed)
         return g
+
+    @cached_property
+    def compact_graph(self) -> CompactGraph:
+        """The causal graph of `graph`, kept only as the integer index the searches
+        read (`dagward.causal.compact`), built without networkx: `check` runs on it.
+
+        Variables are numbered in `graph`'s node order and each variable's children
+        and parents listed in `graph`'s order, so every search answers exactly as on
+        `graph`. Reading what the compact graph does not keep builds `graph` then.
+        """
+        from array import array
+
+        from .causal.compact import CompactGraph
+        from .causal.graph import hidden_node_name
+        from .causal.indexed import Indexed
+
+        pairs = []
+        hidden = set()
+        for a in self.arrows:
+            if a.bidirected:
+                h = hidden_node_name(a.source_text, a.target_text)
+                hidden.add(h)
+                pairs.append((h, a.source_text))
+                pairs.append((h, a.target_text))
+            else:
+                pairs.append((a.source_text, a.target_text))
+        variables = sorted(self.variables)
+        names = variables + sorted(hidden)
+        del hidden
+        index = {v: i for i, v in enumerate(names)}
+        # arrows in the order of `graph` (sorted by names: a hidden parent's name
+        # sorts apart from its node number), as one integer each
+        by_name = sorted(range(len(names)), key=names.__getitem__)
+        rank = array("i", bytes(4 * len(names)))
+        for r, i in enumerate(by_name):
+            rank[i] = r
+        size = len(names)
+        keys = sorted({rank[index[u]] * size + rank[index[v]] for u, v in pairs})
+        del pairs
+        succ = [array("i") for _ in names]
+        pred = [array("i") for _ in names]
+        for key in keys:
+            u, v = by_name[key // size], by_name[key % size]
+            succ[u].append(v)
+            pred[v].append(u)
+        del keys
+        ix = Indexed.from_rows(names, succ, pred, index)
+        diagram = weakref.ref(self)  # no reference cycle through the graph
+
+        def full() -> nx.DiGraph:
+            d = diagram()
+            assert d is not None
+            return d.graph
+
+        return CompactGraph(ix, len(variables), full)
 
     @cached_property
     def directed_graph_without_hidden(self) -> nx.DiGraph:
@@ -386,7 +590,7 @@ class Diagram:
 
         g = nx.DiGraph()
         g.add_nodes_from(self.variables)
-        g.add_edges_from((a.source.text, a.target.text) for a in self.arrows if not a.bidirected)
+        g.add_edges_from((a.source_text, a.target_text) for a in self.arrows if not a.bidirected)
         return nx.freeze(g)
 
 

@@ -219,7 +219,7 @@ def picture(
     edges: list[EdgeStyle] = []
     seen: set[tuple] = set()
     for arrow in diagram.arrows:
-        a, b = arrow.source.text, arrow.target.text
+        a, b = arrow.source_text, arrow.target_text
         if arrow.bidirected:
             key: tuple = ("<->", *sorted((a, b)))
             if key in seen:

@@ -37,6 +37,9 @@ from .model import (
     TitleStatement,
     UnmeasuredStatement,
 )
+from .model import (
+    OPERATORS as _OPERATORS,
+)
 
 
 @dataclass(frozen=True)
@@ -59,7 +62,6 @@ def grammar_text() -> str:
 
 # --- building the model while parsing ---------------------------------------------
 
-_new = tuple.__new__
 _ARROW_LINE_PIECE = re.compile(r"[^\W\d][\w.]*|<->|->|,|#[^\n]*")
 # the most common line, `a -> b  # reason`, in one match
 _SINGLE_ARROW = re.compile(
@@ -90,7 +92,10 @@ def _make_arrows(groups: list[tuple[Name, ...]], operators: list[str]) -> tuple[
         bidirected = op == "<->"
         for src in groups[i]:
             for dst in groups[i + 1]:
-                arrows.append(Arrow(src, dst, bidirected, _join(src.span, dst.span)))
+                arrows.append(
+                    Arrow(src.text, dst.text, bidirected, src.span.line, src.span.column,
+                          dst.span.column)
+                )  # fmt: skip
     return tuple(arrows)
 
 
@@ -100,12 +105,25 @@ class _Builder(Transformer):
     def __init__(self) -> None:
         super().__init__(visit_tokens=False)
         self.comments: list[Comment] = []
+        self.reset()
+
+    def reset(self) -> None:
+        """Forget the previous file (called before every parse)."""
+        self.comments = []
+        # Every occurrence of a name shares one str (a variable is named on
+        # several lines); the dict lives for one parse only.
+        self.texts: dict[str, str] = {}
+
+    def _name(self, tok: Token) -> Name:
+        text = str(tok)
+        text = self.texts.setdefault(text, text)
+        return Name(text, Span(tok.line, tok.column, tok.line, tok.end_column))
 
     # statements -------------------------------------------------------------
     def names(self, children):
         # The contextual lexer reads `none` as a name where only names fit
         # (`exposure: none`); it is reserved for `adjust: none`.
-        names = tuple(_name(t) for t in children if t.type == "NAME")
+        names = tuple(self._name(t) for t in children if t.type == "NAME")
         for n in names:
             if n.text in RESERVED_WORDS:
                 raise _ReservedName(n)
@@ -121,19 +139,22 @@ class _Builder(Transformer):
 
     def label(self, children):
         kw, target, string = children
-        return LabelStatement(_name(target), str(string), _join(_span(kw), _span(string)))
+        return LabelStatement(self._name(target), str(string), _join(_span(kw), _span(string)))
 
     def period(self, children):
         kw, period, _colon, names = children
-        return PeriodStatement(_name(period), names, _join(_span(kw), names[-1].span))
+        return PeriodStatement(self._name(period), names, _join(_span(kw), names[-1].span))
 
     def arrows(self, children):
         groups = children[0::2]
-        operators = [str(t) for t in children[1::2]]
+        operators = [_OPERATORS[t] for t in children[1::2]]
+        arrows = _make_arrows(groups, operators)
+        if len(arrows) == 1:
+            return ArrowStatement.single(arrows[0])
         return ArrowStatement(
             tuple(groups),
             tuple(operators),
-            _make_arrows(groups, operators),
+            arrows,
             _join(groups[0][0].span, groups[-1][-1].span),
         )
 
@@ -142,11 +163,14 @@ class _Builder(Transformer):
         (tok,) = children
         if tok.count("\n") == 1:
             return [self._arrow_statement(tok, tok.line, tok.column)]
-        first = tok.line
-        return [
-            self._arrow_statement(text + "\n", first + i, 1)
-            for i, text in enumerate(tok.split("\n")[:-1])
-        ]
+        # one line at a time (a list of every line of a long run would be as
+        # large as the text again, all at once)
+        out, start, line, arrow_statement = [], 0, tok.line, self._arrow_statement
+        while start < len(tok):
+            end = tok.index("\n", start) + 1
+            out.append(arrow_statement(tok[start:end], line, 1))
+            start, line = end, line + 1
+        return out
 
     def _arrow_statement(self, tok: str, line: int, col0: int) -> ArrowStatement:
         """Split one arrow line (with its newline) into names and operators.
@@ -158,19 +182,18 @@ class _Builder(Transformer):
         if single is not None:
             src, op, dst, comment = single.groups()
             if src not in RESERVED_WORDS and dst not in RESERVED_WORDS:
-                c1, c3 = col0 + single.start(1), col0 + single.start(3)
-                # tuple.__new__ builds the named tuples without their Python-level
-                # __new__ (a third of the cost of a line); same objects.
-                source = _new(Name, (src, _new(Span, (line, c1, line, c1 + len(src)))))
-                target = _new(Name, (dst, _new(Span, (line, c3, line, c3 + len(dst)))))
-                span = _new(Span, (line, c1, line, c3 + len(dst)))
+                texts = self.texts
                 if comment is not None:
                     c4 = col0 + single.start(4)
                     self.comments.append(
                         Comment(comment, Span(line, c4, line, c4 + len(comment)), True)
                     )
-                arrow = _new(Arrow, (source, target, op == "<->", span))
-                return _new(ArrowStatement, (((source,), (target,)), (op,), (arrow,), span))
+                # the one-arrow statement keeps only the arrow, which keeps only
+                # the shared name strings, the line and the columns
+                return ArrowStatement.single(
+                    Arrow(texts.setdefault(src, src), texts.setdefault(dst, dst), op == "<->",
+                          line, col0 + single.start(1), col0 + single.start(3))
+                )  # fmt: skip
         groups: list[tuple[Name, ...]] = []
         current: list[Name] = []
         operators: list[str] = []
@@ -180,7 +203,7 @@ class _Builder(Transformer):
             if ch == ",":
                 continue
             if ch == "-" or ch == "<":
-                operators.append(piece)
+                operators.append(_OPERATORS[piece])
                 groups.append(tuple(current))
                 current = []
             elif ch == "#":
@@ -191,17 +214,13 @@ class _Builder(Transformer):
                     col = col0 + m.start()
                     raise _ReservedName(Name(piece, Span(line, col, line, col + len(piece))))
                 col = col0 + m.start()
+                piece = self.texts.setdefault(piece, piece)
                 current.append(Name(piece, Span(line, col, line, col + len(piece))))
         groups.append(tuple(current))
         first, last = groups[0][0].span, groups[-1][-1].span
-        if len(operators) == 1 and len(groups[0]) == 1 and len(groups[1]) == 1:
-            # the common `a -> b` line
-            arrows = (
-                Arrow(groups[0][0], groups[1][0], operators[0] == "<->",
-                      Span(line, first.column, line, last.end_column)),
-            )  # fmt: skip
-        else:
-            arrows = _make_arrows(groups, operators)
+        arrows = _make_arrows(groups, operators)
+        if len(arrows) == 1:
+            return ArrowStatement.single(arrows[0])
         return ArrowStatement(
             tuple(groups), tuple(operators), arrows, Span(line, first.column, line, last.end_column)
         )
@@ -221,7 +240,7 @@ class _Builder(Transformer):
         name_token = None
         i = 1
         if isinstance(children[1], Token) and children[1].type == "NAME":
-            name_token = _name(children[1])
+            name_token = self._name(children[1])
             i = 2
         brace = children[i]
         entries = []
@@ -287,10 +306,13 @@ def _token_lexer() -> Lark:
 
 def _parse_statements(text: str) -> tuple[list, list[Comment]]:
     lark, builder = _parser()
-    builder.comments = []
-    with collector_paused():  # see linter/gcpause.py
-        statements = lark.parse(text)
-    comments = sorted(builder.comments, key=lambda c: (c.span.line, c.span.column))
+    builder.reset()
+    try:
+        with collector_paused():  # see linter/gcpause.py
+            statements = lark.parse(text)
+        comments = sorted(builder.comments, key=lambda c: (c.span.line, c.span.column))
+    finally:
+        builder.reset()  # the builder keeps nothing of this file
     return statements, comments
 
 

@@ -147,13 +147,15 @@ class Verdict:
         diagram: Diagram,
         analysis: Analysis,
         *,
+        graph=None,
         _part: str | None = None,
         _roles: tuple | None = None,
     ):
         self.diagram = diagram
         self.analysis = analysis
         self.name = analysis.name
-        self.graph = diagram.graph
+        # `check` passes `diagram.compact_graph` (same answers, no networkx graph)
+        self.graph = diagram.graph if graph is None else graph
         self.measured = diagram.measured
         self.part = _part
         question = analysis.effect
@@ -534,7 +536,7 @@ class Verdict:
             MEDIATOR_OUTCOME: (M, Y, Z, X),
         }
         return {
-            part: Verdict(self.diagram, self.analysis, _part=part, _roles=r)
+            part: Verdict(self.diagram, self.analysis, graph=self.graph, _part=part, _roles=r)
             for part, r in roles.items()
         }
 
@@ -782,20 +784,24 @@ def json_path(graph, path) -> tuple[str, ...]:
     return tuple("<->" if is_hidden(graph, n) else n for n in path)
 
 
-def verdict_of(diagram: Diagram, analysis: Analysis) -> Verdict:
+def verdict_of(diagram: Diagram, analysis: Analysis, *, compact: bool = False) -> Verdict:
     """The one verdict on an analysis of a diagram, judged once per diagram.
 
-    `check`'s rules and the command that reports afterwards (`adjustment`,
-    `paths`, `render`, `diff`, the language server, the API) all ask here, so
-    the answers a verdict has already worked out (its problems, its minimal
-    sets) are not worked out again. Kept on the diagram, so it lives as long as
-    the diagram and no longer; a diagram is never edited after parsing (a
-    changed diagram is a new `Diagram`, which gets verdicts of its own).
+    `check`'s rules ask with ``compact=True``: that verdict reads
+    `diagram.compact_graph` (the same answers, without building networkx's
+    graph). The commands that report (`adjustment`, `paths`, `render`, `diff`,
+    the language server's hover, the API) ask without, and share one verdict on
+    `diagram.graph`, so the answers it has worked out (its problems, its
+    minimal sets) are not worked out again. Kept on the diagram, so it lives as
+    long as the diagram and no longer; a diagram is never edited after parsing
+    (a changed diagram is a new `Diagram`, which gets verdicts of its own).
     """
     memo = diagram.__dict__.setdefault("_verdicts", {})
-    kept = memo.get(id(analysis))
+    key = (id(analysis), compact)
+    kept = memo.get(key)
     if kept is None or kept.analysis is not analysis:
-        kept = memo[id(analysis)] = Verdict(diagram, analysis)
+        graph = diagram.compact_graph if compact else None
+        kept = memo[key] = Verdict(diagram, analysis, graph=graph)
     return kept
 
 

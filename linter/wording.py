@@ -63,83 +63,69 @@ def spell_path(graph, path: Iterable[str]) -> str:
     return "".join(parts)
 
 
-# Comparisons one `NameHints` may spend on close spellings (about 2 to 12
-# microseconds each): hints for many names against many known names would
-# otherwise cost their product, so a file with thousands of stray names made
-# `check` quadratic. Ten misspellings among 10,000 names fit.
-HINT_BUDGET = 100_000
+# Most name comparisons (difflib's ratio, a few microseconds each) that one
+# list of hints may take: a rule that hints for thousands of names against
+# thousands of known ones would otherwise grow with the product of the two.
+SPELLING_BUDGET = 250_000
 
 
-class NameHints:
-    """Close spellings of misspelt names among one list of known names, for many
-    look-ups (one per finding of a rule).
+class Speller:
+    """Close spellings among one list of known names, for `queries` names.
 
-    A match that differs only in case first (a dictionary look-up); then one
-    close spelling (difflib's ratio, Ratcliff/Obershelp matching, as in the
-    standard library: one is a clear hint, several a guessing game); and when
-    nothing is close, names that contain the given one as a part (`collider`
-    for `collider-adjusted`). A close spelling costs one comparison per known
-    name, so the comparisons are capped at ``budget`` over all look-ups: once
-    they are spent, only matches that differ in case are offered. The cap
-    depends on the file alone, so the same file always gets the same hints;
-    ``comparisons`` counts what was spent (for tests).
+    The list and its lower-case index are built once. When `queries` names
+    against the known ones would take more than `SPELLING_BUDGET` comparisons,
+    only the match that differs in case is offered (a dict look-up), for every
+    name alike, so which names get a hint never depends on their order.
     """
 
-    __slots__ = ("known", "_lowered", "_left", "comparisons")
+    __slots__ = ("known", "lowered", "spell")
 
-    def __init__(self, known: Iterable[str], budget: float = HINT_BUDGET):
+    def __init__(self, known: Iterable[str], queries: int = 1):
         self.known = list(dict.fromkeys(known))
-        self._lowered = {k.lower(): k for k in self.known}
-        self._left = budget
-        self.comparisons = 0
+        self.lowered = {k.lower(): k for k in self.known}
+        self.spell = queries * len(self.known) <= SPELLING_BUDGET
 
     def close(self, name: str, n: int = 3) -> list[str]:
-        """Up to ``n`` known names ``name`` may have meant, best first."""
-        same = self._lowered.get(name.lower())
-        if same is not None:
-            return [same]
-        cost = len(self.known) * (2 if len(name) >= 3 else 1)
-        if cost > self._left:
-            self._left = 0  # spent: later look-ups must not get hints earlier ones lacked
+        """Up to `n` known names a misspelt `name` may have meant, best first.
+
+        A match that differs only in case first; then one close spelling
+        (difflib's ratio, Ratcliff/Obershelp matching, as in the standard library:
+        one is a clear hint, several a guessing game); and when nothing is close,
+        names that contain the given one as a part (`collider` for
+        `collider-adjusted`).
+        """
+        lowered = self.lowered.get(name.lower())
+        if lowered is not None:
+            return [lowered]
+        if not self.spell:
             return []
-        self._left -= cost
-        self.comparisons += cost
-        out = difflib.get_close_matches(name, self.known, n=1, cutoff=0.6)
+        known = self.known
+        out = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
         if not out and len(name) >= 3:
-            low = name.lower()
-            for k in self.known:
-                kl = k.lower()
-                if (low in kl.replace("_", "-").split("-") or kl.startswith(low)) and k not in out:
+            for k in known:
+                parts = k.lower().replace("_", "-").split("-")
+                if (name.lower() in parts or k.lower().startswith(name.lower())) and k not in out:
                     out.append(k)
         return out[:n]
 
-    def closest(self, name: str) -> str | None:
-        """The one known name a misspelt name most likely meant, or None."""
-        close = self.close(name, n=1)
-        return close[0] if close else None
 
-    def did_you_mean(self, name: str) -> str:
-        """`; did you mean `x`?` (or `x` or `y`), or nothing when no known name is close."""
-        close = self.close(name)
-        if not close:
-            return ""
-        return "; did you mean " + " or ".join(f"`{c}`" for c in close) + "?"
+def close_names(name: str, known: Iterable[str] | Speller, n: int = 3) -> list[str]:
+    """Up to `n` known names a misspelt `name` may have meant (see `Speller.close`)."""
+    return (known if isinstance(known, Speller) else Speller(known)).close(name, n)
 
 
-def close_names(name: str, known: Iterable[str], n: int = 3) -> list[str]:
-    """Up to `n` known names a misspelt `name` may have meant, best first (one look-up;
-    see `NameHints` for many)."""
-    return NameHints(known, budget=float("inf")).close(name, n)
-
-
-def closest_name(name: str, known: Iterable[str]) -> str | None:
+def closest_name(name: str, known: Iterable[str] | Speller) -> str | None:
     """The one known name a misspelt name most likely meant, or None."""
-    return NameHints(known, budget=float("inf")).closest(name)
+    close = close_names(name, known, n=1)
+    return close[0] if close else None
 
 
-def did_you_mean(name: str, known: Iterable[str]) -> str:
+def did_you_mean(name: str, known: Iterable[str] | Speller) -> str:
     """`; did you mean `x`?` (or `x` or `y`), or nothing when no known name is close."""
-    return NameHints(known, budget=float("inf")).did_you_mean(name)
+    close = close_names(name, known)
+    if not close:
+        return ""
+    return "; did you mean " + " or ".join(f"`{c}`" for c in close) + "?"
 
 
 def arrow_text(source: str, target: str, bidirected: bool) -> str:

@@ -4,9 +4,11 @@ from __future__ import annotations
 
 import pytest
 from clirunner import dagward, in_process
+from dagward.config import Settings
+from dagward.engine import lint_source
 from dagward.report import ruledoc
 from dagward.rules import ALL_RULES
-from dagward.wording import close_names
+from dagward.wording import SPELLING_BUDGET, Speller, close_names
 
 
 @pytest.mark.parametrize("rule", ALL_RULES, ids=lambda r: r.name)
@@ -48,6 +50,40 @@ def test_close_names():
     assert close_names("CYCLE", names) == ["cycle"]
     assert "collider-adjusted" in close_names("collider", names)
     assert close_names("zzzz", names) == []
+
+
+def _outside_hints(text: str) -> dict[str, str]:
+    """The message of variable-outside-periods by the variable it names."""
+    found = lint_source(text, "t.dag", Settings()).findings
+    return {
+        f.message.split("`")[1]: f.message for f in found if f.rule == "variable-outside-periods"
+    }
+
+
+def test_spelling_hints_stop_at_the_budget_for_every_name_alike():
+    # A small file: the close spelling `sleep_hour` in a period hints at `sleep_hours`.
+    small = "period night: sleep_hour, Mood\nsleep_hours -> mood\n"
+    hints = _outside_hints(small)
+    assert "`sleep_hour` in a period list may be a misspelling" in hints["sleep_hours"]
+    assert "`Mood` in a period list may be a misspelling" in hints["mood"]
+    # Many variables outside the periods against many period members without arrows:
+    # past the budget only the match that differs in case is offered, and to every
+    # name alike (the same whatever the order of the lines).
+    n = int(SPELLING_BUDGET**0.5) + 10
+    assert n * n > SPELLING_BUDGET
+    arrows = [f"visit_{i} -> visit_{i}_done" for i in range(n)]
+    members = [f"visit_{i}_don" for i in range(n)] + ["VISIT_7"]
+    big = "period p: " + ", ".join(members) + "\n" + "\n".join(arrows) + "\n"
+    hints = _outside_hints(big)
+    assert len(hints) == 2 * n
+    assert "`VISIT_7` in a period list" in hints["visit_7"]
+    assert not any("misspelling" in m for name, m in hints.items() if name != "visit_7")
+    # under the budget, the same names get the close spellings
+    speller = Speller(members, queries=1)
+    assert close_names("visit_3_done", speller, n=1) == ["visit_3_don"]
+    assert Speller(members, queries=n).close("visit_3_done") == []
+    reordered = "period p: " + ", ".join(members) + "\n" + "\n".join(reversed(arrows)) + "\n"
+    assert _outside_hints(reordered) == hints
 
 
 def test_check_points_at_explain_once_and_the_pointer_works(tmp_path):

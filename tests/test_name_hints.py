@@ -1,8 +1,8 @@
 """Misspelling hints ("did you mean") stay linear in the size of a file.
 
 A hint compares one name with every known name, so hints for thousands of
-findings against thousands of names would cost their product. `NameHints`
-caps the comparisons per list of known names (`HINT_BUDGET`); these tests
+findings against thousands of names would cost their product. `Speller`
+caps the comparisons per list of known names (`SPELLING_BUDGET`); these tests
 count comparisons (never time) and check that hints within the budget are
 the ones a single look-up gives.
 """
@@ -14,32 +14,28 @@ import difflib
 import pytest
 from dagward.config import Settings
 from dagward.engine import lint_source
-from dagward.wording import HINT_BUDGET, NameHints, close_names
+from dagward.wording import SPELLING_BUDGET, Speller, close_names
 
 
 def test_hints_within_the_budget_are_those_of_a_single_look_up():
     known = [f"score_{i}" for i in range(200)] + ["age", "Income", "shift_work"]
-    hints = NameHints(known)
-    for name in ["scor_17", "income", "shiftwork", "zzzz", "age", "score"]:
-        assert hints.close(name) == close_names(name, known)
-    assert hints.closest("shiftwork") == "shift_work"
-    assert hints.did_you_mean("income") == "; did you mean `Income`?"
+    names = ["scor_17", "income", "shiftwork", "zzzz", "age", "score"]
+    speller = Speller(known, queries=len(names))
+    for name in names:
+        assert speller.close(name) == close_names(name, known)
+    assert speller.close("shiftwork") == ["shift_work"]
 
 
-def test_hints_stop_at_the_budget_and_stay_stopped():
+def test_past_the_budget_every_name_alike_gets_only_case_matches():
     known = [f"v{i}" for i in range(10_000)]
-    # a look-up of a name of three or more letters may take two passes (close
-    # spellings, then names containing it): room for two look-ups, not three
-    hints = NameHints(known, budget=45_000)
-    first = hints.closest("v12x")
-    assert first is not None and first == close_names("v12x", known)[0]
-    answers = [hints.closest(f"v{i}x") for i in range(50)]
-    assert hints.comparisons == 40_000
-    # once spent, no later look-up gets a close spelling (a late finding must not
-    # get a hint an earlier one lacked) ...
-    assert answers[0] is not None and all(a is None for a in answers[1:])
+    queries = SPELLING_BUDGET // len(known) + 1  # one more than the budget allows
+    speller = Speller(known, queries=queries)
+    # no close spelling for any name, whatever its place in the file ...
+    assert [speller.close(f"v{i}x") for i in range(3)] == [[], [], []]
     # ... but a match that differs only in case is a dictionary look-up, always given
-    assert hints.closest("V77") == "v77"
+    assert speller.close("V77") == ["v77"]
+    # within the budget the same look-up gets its close spelling
+    assert Speller(known, queries=queries - 1).close("v12x") == close_names("v12x", known)
 
 
 def _many_strays_file(n: int) -> str:
@@ -72,7 +68,7 @@ def test_check_with_thousands_of_stray_names_compares_within_the_budget(counted_
         by_rule[f.rule] = by_rule.get(f.rule, 0) + 1
     assert by_rule == {"variable-outside-periods": n + 1, "isolated-variable": n}
     # one budget per rule's list of known names: outside-periods and isolated-variable
-    assert counted_comparisons[0] <= 2 * HINT_BUDGET
+    assert counted_comparisons[0] <= 2 * SPELLING_BUDGET
     # and that is far below the product the unbounded hints cost
     assert counted_comparisons[0] < 2 * n * n // 50
     # every finding is still reported in full; only the hint is left out past the budget

@@ -295,8 +295,9 @@ def test_a_listing_continued_in_steps_on_many_minimal_sets():
 
 
 def test_every_command_reads_the_verdict_check_judged():
-    """One verdict per analysis: the rules of `check`, `adjustment`'s report, the
-    API and a second look-up all get the same object, so nothing is judged twice."""
+    """One verdict per analysis: the rules of `check` share one (on the compact
+    graph), and `adjustment`'s report, the API and a second look-up share one (on
+    networkx's graph); both judge the same, and nothing is judged twice."""
     from dagward.api import CheckedDiagram
 
     text = "\n".join(
@@ -306,12 +307,15 @@ def test_every_command_reads_the_verdict_check_judged():
     result = lint_source(text, "one.dag")
     diagram = result.diagram
     analysis = diagram.analyses[0]
-    judged = verdict_of(diagram, analysis)
-    assert judged is verdict_of(diagram, analysis)
+    judged = verdict_of(diagram, analysis, compact=True)
+    assert judged is verdict_of(diagram, analysis, compact=True)
     assert judged.__dict__.get("problems") is not None  # the rules already asked it
+    shared = verdict_of(diagram, analysis)
     report = report_for(diagram, analysis, 20)
     assert report["minimal_sets"] == [["age"]] and report["declared_valid"] is True
-    assert CheckedDiagram(diagram).verdict("main") is judged
+    assert shared.__dict__.get("problems") is not None  # the report asked this one
+    assert CheckedDiagram(diagram).verdict("main") is shared
+    assert report == judged.to_dict(20)
     # a new parse of the same text is a new diagram with a verdict of its own
     again, _ = parse_source(text, "one.dag")
-    assert verdict_of(again, again.analyses[0]) is not judged
+    assert verdict_of(again, again.analyses[0]) is not shared

@@ -59,15 +59,15 @@ def open_path_witnesses(
         return None
     X, Y, Z, fixable = set(X), set(Y), set(Z), set(fixable)
     succ, pred = G.succ, G.pred
-    an_z: set[str] = set(Z)
-    for z in Z:
-        an_z |= nx.ancestors(G, z)
+    from .graph import ancestors, descendants
+
+    an_z: set[str] = ancestors(G, Z) if Z else set()
     # For a collider c: the adjusted variables that are c or descend from it.
     below: dict[str, list[str]] = {}
 
     def adjusted_below(c: str) -> list[str]:
         if c not in below:
-            below[c] = sorted((nx.descendants(G, c) | {c}) & Z)
+            below[c] = sorted(descendants(G, {c}) & Z)
         return below[c]
 
     neighbours = {v: sorted(set(succ[v]) | set(pred[v])) for v in G}

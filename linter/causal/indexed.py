@@ -48,6 +48,20 @@ class Indexed:
         self._masks: dict[int, tuple[frozenset, bytes]] = {}
         self._rows: tuple | None = None
 
+    @classmethod
+    def from_rows(
+        cls, names: list[str], succ: list[array], pred: list[array], index: dict[str, int]
+    ) -> Indexed:
+        """An index made directly from numbered variables (``index``: name ->
+        number) and their children and parents (each row in the order the
+        searches visit them)."""
+        ix = cls.__new__(cls)
+        ix.names = names
+        ix.index = index
+        ix.succ, ix.pred, ix.n = succ, pred, len(names)
+        ix._masks, ix._rows = {}, None
+        return ix
+
     def rows(self) -> tuple[Callable[[int], Sequence[int]], Callable[[int], Sequence[int]]]:
         """(children of v, parents of v) as functions, for the hottest loops.
 

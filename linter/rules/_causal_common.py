@@ -38,20 +38,24 @@ def arrows_on(ctx: Context, graph, path) -> list[Arrow]:
     """The arrow statements behind the steps of a path, in path order."""
     from ..causal.graph import is_hidden
 
-    index = ctx.diagram.arrow_index
-    out: list[Arrow] = []
+    # the keys each step may stand for, then their first statements in one pass
+    # over the arrows (no index of every arrow of the diagram)
+    steps: list[tuple[tuple[str, str, str], ...]] = []
     i = 0
     while i < len(path) - 1:
         a, b = path[i], path[i + 1]
         if is_hidden(graph, b) and i + 2 < len(path):
-            arrow = index.get(arrow_key(a, path[i + 2], True))
+            steps.append((arrow_key(a, path[i + 2], True),))
             i += 2
         elif is_hidden(graph, a):
             i += 1
-            continue
         else:
-            arrow = index.get(arrow_key(a, b, False)) or index.get(arrow_key(b, a, False))
+            steps.append((arrow_key(a, b, False), arrow_key(b, a, False)))
             i += 1
+    index = ctx.diagram.first_arrows(k for keys in steps for k in keys)
+    out: list[Arrow] = []
+    for keys in steps:
+        arrow = next((index[k] for k in keys if k in index), None)
         if arrow is not None and arrow not in out:
             out.append(arrow)
     return out

@@ -49,19 +49,19 @@ def check(ctx: Context) -> Iterator[Finding]:
     for arrow in diagram.arrows:
         if arrow.bidirected:
             continue
-        src = period_of.get(arrow.source.text)
-        dst = period_of.get(arrow.target.text)
+        src = period_of.get(arrow.source_text)
+        dst = period_of.get(arrow.target_text)
         if src is None or dst is None or order[src[0]] <= order[dst[0]]:
             continue
         yield ctx.finding(
             RULE,
             arrow.span,
-            f"`{arrow.describe()}` runs against time: `{arrow.source.text}` is in period "
-            f"`{src[0]}`, which comes after `{dst[0]}` of `{arrow.target.text}`; reverse the "
+            f"`{arrow.describe()}` runs against time: `{arrow.source_text}` is in period "
+            f"`{src[0]}`, which comes after `{dst[0]}` of `{arrow.target_text}`; reverse the "
             "arrow or fix the periods",
             related=(
-                ctx.related(src[1].span, f"`{arrow.source.text}` in period `{src[0]}`"),
-                ctx.related(dst[1].span, f"`{arrow.target.text}` in period `{dst[0]}`"),
+                ctx.related(src[1].span, f"`{arrow.source_text}` in period `{src[0]}`"),
+                ctx.related(dst[1].span, f"`{arrow.target_text}` in period `{dst[0]}`"),
             ),
         )
 

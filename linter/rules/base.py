@@ -71,4 +71,5 @@ class Context:
         """The verdict on one analysis, computed once and shared by the rules."""
         from ..verdict import verdict_of
 
-        return verdict_of(self.diagram, analysis)
+        # the compact graph: the rules never need networkx's
+        return verdict_of(self.diagram, analysis, compact=True)

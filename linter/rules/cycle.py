@@ -34,21 +34,21 @@ def check(ctx: Context) -> Iterator[Finding]:
 
     diagram = ctx.diagram
     # hidden `<->` parents have no incoming arrows, so they are never on a cycle
-    graph = diagram.graph
+    graph = diagram.compact_graph  # networkx's graph is built only for a cycle
     suspects = _not_topologically_sortable(graph)
     if not suspects:
         return
     first_statement: dict[tuple[str, str], Arrow] = {}
     for arrow in diagram.arrows:
-        if not arrow.bidirected and arrow.source.text != arrow.target.text:
-            first_statement.setdefault((arrow.source.text, arrow.target.text), arrow)
+        if not arrow.bidirected and arrow.source_text != arrow.target_text:
+            first_statement.setdefault((arrow.source_text, arrow.target_text), arrow)
     for component in nx.strongly_connected_components(graph.subgraph(suspects)):
         if len(component) < 2:
             continue
         inside = [a for e, a in first_statement.items() if e[0] in component and e[1] in component]
         last = max(inside, key=_position)
-        cycle = _shortest_return(graph, component, last.target.text, last.source.text)
-        nodes = [last.source.text, *cycle]  # source -> target -> ... -> source
+        cycle = _shortest_return(graph, component, last.target_text, last.source_text)
+        nodes = [last.source_text, *cycle]  # source -> target -> ... -> source
         arrows = [first_statement[(nodes[i], nodes[i + 1])] for i in range(len(nodes) - 1)]
         spelled = " -> ".join(nodes)
         yield ctx.finding(
@@ -66,16 +66,20 @@ def check(ctx: Context) -> Iterator[Finding]:
 def _not_topologically_sortable(graph) -> set[str]:
     """The variables Kahn's topological sort cannot remove (Kahn 1962): every cycle
     lies among them. Usually empty, and much cheaper than finding components."""
-    pred, succ = graph.pred, graph.succ
-    indegree = {v: len(ps) for v, ps in pred.items()}
-    ready = [v for v, d in indegree.items() if d == 0]
+    from ..causal.indexed import indexed
+
+    ix = indexed(graph)  # on the integer index: no name look-ups
+    succ = ix.succ
+    indegree = [len(ps) for ps in ix.pred]
+    ready = [v for v, d in enumerate(indegree) if d == 0]
     while ready:
         v = ready.pop()
         for w in succ[v]:
             indegree[w] -= 1
             if indegree[w] == 0:
                 ready.append(w)
-    return {v for v, d in indegree.items() if d > 0}
+    names = ix.names
+    return {names[v] for v, d in enumerate(indegree) if d > 0}
 
 
 def _shortest_return(graph, component: set, start: str, goal: str) -> list[str]:

@@ -25,7 +25,7 @@ from .base import Context, Rule
 def check(ctx: Context) -> Iterator[Finding]:
     seen: dict[tuple, Arrow] = {}
     for arrow in ctx.diagram.arrows:
-        a, b = arrow.source.text, arrow.target.text
+        a, b = arrow.source_text, arrow.target_text
         key = ("<->", *sorted((a, b))) if arrow.bidirected else ("->", a, b)
         first = seen.get(key)
         if first is None:

@@ -23,25 +23,29 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ..wording import NameHints
+from ..wording import Speller, did_you_mean
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
     connected: set[str] = set()
     for arrow in ctx.diagram.arrows:
-        connected.add(arrow.source.text)
-        connected.add(arrow.target.text)
+        connected.add(arrow.source_text)
+        connected.add(arrow.target_text)
     # a variable with arrows and a close spelling is what a misspelt name meant
-    hints = NameHints(sorted(connected))
-    for name, first in ctx.diagram.variables.items():
-        if name not in connected:
-            yield ctx.finding(
-                RULE,
-                first.span,
-                f"`{name}` has no arrows: add the arrows that connect it, or remove it"
-                f"{hints.did_you_mean(name)}",
-            )
+    isolated = [
+        (name, first) for name, first in ctx.diagram.variables.items() if name not in connected
+    ]
+    if not isolated:
+        return
+    candidates = Speller(sorted(connected), queries=len(isolated))
+    for name, first in isolated:
+        yield ctx.finding(
+            RULE,
+            first.span,
+            f"`{name}` has no arrows: add the arrows that connect it, or remove it"
+            f"{did_you_mean(name, candidates)}",
+        )
 
 
 RULE = Rule(

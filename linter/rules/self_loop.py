@@ -22,8 +22,8 @@ from .base import Context, Rule
 
 def check(ctx: Context) -> Iterator[Finding]:
     for arrow in ctx.diagram.arrows:
-        if arrow.source.text == arrow.target.text:
-            name = arrow.source.text
+        if arrow.source_text == arrow.target_text:
+            name = arrow.source_text
             yield ctx.finding(
                 RULE,
                 arrow.span,

@@ -29,20 +29,26 @@ from collections.abc import Iterator
 
 from ..findings import Finding
 from ..model import LabelStatement
-from ..wording import NameHints
+from ..wording import Speller, did_you_mean
 from .base import Context, Rule
 
 
 def check(ctx: Context) -> Iterator[Finding]:
     known = ctx.diagram.variables
-    hints = NameHints(known)
+    unknown = sum(s.target.text not in known for s in ctx.diagram.statements
+                  if isinstance(s, LabelStatement))  # fmt: skip
+    unknown += sum(n.text not in known for a in ctx.diagram.analyses
+                   for entry in a.entries for n in entry.names)  # fmt: skip
+    if not unknown:
+        return
+    hints = Speller(known, queries=unknown)
     for s in ctx.diagram.statements:
         if isinstance(s, LabelStatement) and s.target.text not in known:
             yield ctx.finding(
                 RULE,
                 s.target.span,
                 f"`label` names `{s.target.text}`, which no arrow, `unmeasured` or `period` "
-                f"statement mentions{hints.did_you_mean(s.target.text)}",
+                f"statement mentions{did_you_mean(s.target.text, hints)}",
             )
     for analysis in ctx.diagram.analyses:
         for entry in analysis.entries:
@@ -52,7 +58,7 @@ def check(ctx: Context) -> Iterator[Finding]:
                         RULE,
                         n.span,
                         f"`{n.text}` in `{entry.key}:` of analysis `{analysis.name}` is not a "
-                        f"variable of the diagram{hints.did_you_mean(n.text)}",
+                        f"variable of the diagram{did_you_mean(n.text, hints)}",
                         analysis=analysis,
                     )
 

@@ -29,7 +29,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 
 from ..findings import Finding
-from ..wording import NameHints
+from ..wording import Speller, closest_name
 from .base import Context, Rule
 
 
@@ -40,14 +40,19 @@ def check(ctx: Context) -> Iterator[Finding]:
     in_period = {n.text for _head, members in diagram.periods for n in members}
     with_arrows: set[str] = set()
     for arrow in diagram.arrows:
-        with_arrows.add(arrow.source.text)
-        with_arrows.add(arrow.target.text)
+        with_arrows.add(arrow.source_text)
+        with_arrows.add(arrow.target_text)
     # a period name that no variable has is the likely misspelling
-    strays = NameHints(sorted(in_period - with_arrows))
-    for name, first in diagram.variables.items():
-        if name in in_period or name not in with_arrows or name in diagram.unmeasured:
-            continue
-        stray = strays.closest(name)
+    strays = sorted(in_period - with_arrows)
+    unmeasured = diagram.unmeasured
+    outside = [
+        (name, first)
+        for name, first in diagram.variables.items()
+        if name not in in_period and name in with_arrows and name not in unmeasured
+    ]
+    speller = Speller(strays, queries=len(outside))
+    for name, first in outside:
+        stray = closest_name(name, speller)
         hint = f" (`{stray}` in a period list may be a misspelling of it)" if stray else ""
         yield ctx.finding(
             RULE,
