@@ -42,13 +42,21 @@ def test_docstring_examples_with_their_data(rule):
     assert not [f for f in lint_source(bad, "bad.dag", settings).findings if f.rule == rule.name]
 
 
-def _json_findings(*args: str) -> tuple[int, list[dict]]:
-    run = dagward("check", *args, "--format", "json")
-    return run.code, json.loads(run.out)["findings"]
+@pytest.fixture
+def json_findings(capsys, monkeypatch):
+    """`check ARGS --format json` in this process (each run would otherwise start an
+    interpreter and import the statistics stack): (exit status, findings)."""
+    monkeypatch.chdir(ROOT)
+
+    def run(*args: str) -> tuple[int, list[dict]]:
+        done = in_process(capsys, "check", *args, "--format", "json")
+        return done.code, json.loads(done.out)["findings"]
+
+    return run
 
 
-def test_check_data_reports_the_rejection_at_the_analysis_header():
-    code, findings = _json_findings("samples/wellness.dag", "--data", EXTRA_ARROW)
+def test_check_data_reports_the_rejection_at_the_analysis_header(json_findings):
+    code, findings = json_findings("samples/wellness.dag", "--data", EXTRA_ARROW)
     assert code == 0  # a warning; fail-on error
     (f,) = [f for f in findings if f["rule"] == "independence-rejected"]
     lines = (ROOT / "samples/wellness.dag").read_text().splitlines()
@@ -61,17 +69,17 @@ def test_check_data_reports_the_rejection_at_the_analysis_header():
                  "Holm-adjusted p < 0.001", "arrow between", "common cause"):  # fmt: skip
         assert part in msg, part
     assert [(r["line"], r["column"]) for r in f["related"]] == [(13, 19), (12, 23)]
-    code, findings = _json_findings("samples/wellness.dag", "--data", CONSISTENT)
+    code, findings = json_findings("samples/wellness.dag", "--data", CONSISTENT)
     assert code == 0 and not [f for f in findings if f["rule"].startswith(("independence",
                                                                           "missing"))]  # fmt: skip
 
 
-def test_rejection_can_be_allowed_at_the_header(tmp_path):
+def test_rejection_can_be_allowed_at_the_header(tmp_path, json_findings):
     text = (ROOT / "samples/wellness.dag").read_text()
     allow = "  # dagward: allow independence-rejected"
     text = text.replace("analysis total_effect {", "analysis total_effect {" + allow)
     (tmp_path / "w.dag").write_text(text)
-    _, findings = _json_findings(str(tmp_path / "w.dag"), "--data", str(ROOT / EXTRA_ARROW))
+    _, findings = json_findings(str(tmp_path / "w.dag"), "--data", str(ROOT / EXTRA_ARROW))
     assert not [f for f in findings if f["rule"] == "independence-rejected"]
 
 
@@ -90,17 +98,17 @@ def test_missing_column_at_first_appearance_with_suggestion(tmp_path):
     assert "[independence-rejected]" not in run.out
 
 
-def test_file_without_analysis(tmp_path):
+def test_file_without_analysis(tmp_path, json_findings):
     diagram = tmp_path / "plain.dag"
     diagram.write_text("# no analysis here\nage -> enrolled\nshift_work -> enrolled\n")
     data = tmp_path / "d.csv"
     rows = ["age,shift_work,enrolled"] + [f"{i},{100 - 2 * i + (i % 3)},{i % 7}" for i in range(40)]
     data.write_text("\n".join(rows) + "\n")
-    code, findings = _json_findings(str(diagram), "--data", str(data))
+    code, findings = json_findings(str(diagram), "--data", str(data))
     (f,) = [f for f in findings if f["rule"] == "independence-rejected"]
     assert (f["line"], f["column"]) == (1, 1) and "analysis" not in f
     data.write_text("age,enrolled\n1,2\n3,4\n5,7\n")
-    code, findings = _json_findings(str(diagram), "--data", str(data))
+    code, findings = json_findings(str(diagram), "--data", str(data))
     (f,) = [f for f in findings if f["rule"] == "missing-column"]
     assert (f["line"], f["column"]) == (3, 1) and "`shift_work`" in f["message"]
     assert code == 1

@@ -21,7 +21,7 @@ import xml.etree.ElementTree as ET
 import networkx as nx
 import numpy as np
 import pytest
-from clirunner import ROOT, dagward
+from clirunner import ROOT, dagward, in_process
 from dagward.syntax import parse_source
 
 SAMPLES = ["wellness", "tree_canopy", "soil_amendment"]
@@ -231,13 +231,14 @@ def test_text_table_and_forest_plot(tmp_path):
     assert strict.code == 1
 
 
-def test_missing_column_and_bad_data(tmp_path):
+def test_missing_column_and_bad_data(tmp_path, capsys, monkeypatch):
+    monkeypatch.chdir(ROOT)  # in this process: each run imports the statistics stack
     lacking = tmp_path / "lacking.csv"
     with open(ROOT / CONSISTENT, newline="") as handle:
         rows = list(csv.reader(handle))
     keep = [i for i, name in enumerate(rows[0]) if name != "age"]
     lacking.write_text("\n".join(",".join(r[i] for i in keep) for r in rows) + "\n")
-    run = dagward("independencies", "samples/wellness.dag", "--data", str(lacking))
+    run = in_process(capsys, "independencies", "samples/wellness.dag", "--data", str(lacking))
     assert run.code == 1  # missing-column is an error
     assert "samples/wellness.dag:12:18: error [missing-column] `age`" in run.err
     assert "Not tested (4):" in run.out  # in a table of their own, after the tested ones
@@ -252,11 +253,13 @@ def test_missing_column_and_bad_data(tmp_path):
     assert [c[0] for c in table_rows(run.out, 0)] == ["enrolled and shift_work",
                                                       "fitness_12m and shift_work"]  # fmt: skip
     for bad in (str(tmp_path / "none.csv"), str(tmp_path)):
-        run = dagward("independencies", "samples/wellness.dag", "--data", bad)
+        run = in_process(capsys, "independencies", "samples/wellness.dag", "--data", bad)
         assert run.code == 2 and len(run.err.strip().splitlines()) == 1
         assert run.err.startswith("dagward: error: ")
-    assert dagward("independencies", "samples/wellness.dag", "--plot", "x.svg").code == 2
-    run = dagward("independencies", "samples/wellness.dag", "--data", CONSISTENT, "--alpha", "2")
+    assert in_process(capsys, "independencies", "samples/wellness.dag", "--plot", "x.svg").code == 2
+    run = in_process(
+        capsys, "independencies", "samples/wellness.dag", "--data", CONSISTENT, "--alpha", "2"
+    )
     assert run.code == 2 and "--alpha" in run.err
 
 
