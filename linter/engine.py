@@ -66,9 +66,10 @@ def lint_diagram(
     diagram is fit to reason about (it prints errors and nothing else), only
     the structure rules whose findings could stop the causal reasoning run:
     those at severity error under the settings and those in
-    ``_ALWAYS_BLOCKING``. ``causal_ran`` and the error findings are the same
-    as in a full run; warnings and the causal rules are not computed (on a
-    large diagram their messages cost more than the command itself).
+    ``_ALWAYS_BLOCKING``. ``causal_ran`` and the structure errors are the
+    same as in a full run; warnings and the causal rules (which never stop
+    the reasoning) are not computed: on a large diagram their messages can
+    cost more than the command itself.
     """
     settings = settings or Settings()
     ctx = Context(diagram=diagram, file=file, data=table, data_options=data_options)

@@ -371,10 +371,11 @@ class _DeadStates:
     level 0 needs none of them).
     """
 
-    __slots__ = ("mark", "level", "buckets")
+    __slots__ = ("mark", "level", "buckets", "scratch")
 
     def __init__(self, n: int):
         self.mark = bytearray(2 * n)
+        self.scratch = bytearray(2 * n)  # a search's own visited marks, all 0 between searches
         self.level = array("i", [0]) * (2 * n)
         self.buckets: list[list[int]] = []
 
@@ -476,32 +477,40 @@ def _open_walk_to(
     outcome without entering a wall or a dead state.
 
     On failure every state visited is marked dead, at the level of the
-    deepest path variable (``pos``) or dead state the search ran into.
+    deepest path variable (``pos``) or dead state the search ran into.  The
+    search costs the states it visits and their moves, nothing per variable
+    of the diagram.
     """
-    mark, lv = dead.mark, dead.level
-    seen = bytearray(mark)
+    mark, lv, seen = dead.mark, dead.level, dead.scratch
     seen[first] = 1
     visited = [first]
     stack = [first]
     bump = 0
-    while stack:
+    found = False
+    while stack and not found:
         for t in moves(stack.pop()):
             c = t >> 1
             if walls[c]:
                 if pos[c] >= bump:
                     bump = pos[c] + 1
                 continue
-            if seen[t]:
-                if mark[t] and lv[t] > bump:
+            if mark[t]:
+                if lv[t] > bump:
                     bump = lv[t]
                 continue
+            if seen[t]:
+                continue
             if y_mask[c]:
-                return True
+                found = True
+                break
             seen[t] = 1
             visited.append(t)
             stack.append(t)
-    dead.add(visited, bump)
-    return False
+    for t in visited:  # the scratch marks are cleared by the states set, not by a pass
+        seen[t] = 0
+    if not found:
+        dead.add(visited, bump)
+    return found
 
 
 def _open_to_outcome(
