@@ -13,7 +13,7 @@ import random
 
 import networkx as nx
 import pytest
-from dagward.causal.separators import _closure, _touching_y_side, _toward
+from dagward.causal.separators import _closure, _distances, _touching_y_side
 
 
 def _by_definition(nbrs, ys, side, border_mark, border) -> set[int]:
@@ -49,5 +49,5 @@ def test_touching_border_vertices_are_those_of_the_definition(seed):
     side, _members, border_mark, border = _closure(nbrs, seed_side, removable)
     if side[ys[0]]:
         return  # the x side reached Y: the search stops before asking
-    got = _touching_y_side(_toward(nbrs, ys), ys, side, border_mark, border)
+    got = _touching_y_side(nbrs, _distances(nbrs, ys), ys, side, border_mark, border)
     assert got == _by_definition(nbrs, ys, side, border_mark, border)

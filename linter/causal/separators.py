@@ -139,9 +139,9 @@ def _close_to(
     return [b for b in border if any(reached[u] == 2 for u in nbrs[b])]
 
 
-def _toward(nbrs: Neighbours, targets: list[int]) -> Neighbours:
-    """Each vertex's neighbours, nearest to ``targets`` first (breadth-first
-    distance in the whole graph, ties in the original order; unreachable last)."""
+def _distances(nbrs: Neighbours, targets: list[int]) -> array:
+    """Breadth-first distance of each vertex from ``targets`` in the whole graph
+    (``len(nbrs)`` where none leads): one pass per listing, 4 bytes a vertex."""
     n = len(nbrs)
     dist = array("i", [n]) * n
     frontier = []
@@ -159,29 +159,34 @@ def _toward(nbrs: Neighbours, targets: list[int]) -> Neighbours:
                     dist[w] = d
                     nxt.append(w)
         frontier = nxt
-    key = dist.__getitem__
-    return [sorted(row, key=key) if len(row) > 1 else row for row in nbrs]
+    return dist
 
 
 def _touching_y_side(
-    toward_y: Neighbours, ys: list[int], side: bytearray, border_mark: bytearray, border: list[int]
+    nbrs: Neighbours,
+    dist: array,
+    ys: list[int],
+    side: bytearray,
+    border_mark: bytearray,
+    border: list[int],
 ) -> set[int]:
     """The border vertices with a neighbour in D, the part of the graph outside the
     x side and its border that holds the y side.
 
     The same answer as a search of all of D from ``ys``, without walking D: from
-    each border vertex's outside neighbours a depth-first search walks nearest
-    to Y first (``toward_y``) until it meets Y or a vertex already known to be
-    in D; a search that runs out has found a pocket enclosed by the border. Each
-    vertex is settled once per call (in D, or in a pocket), so a call is linear
-    at worst; when D is large and near, it costs about the routes to Y.
+    each border vertex's outside neighbours a depth-first search goes on from
+    the neighbour nearest to Y (``dist``, from :func:`_distances`) until it
+    meets Y or a vertex already known to be in D; a search that runs out has
+    found a pocket enclosed by the border. Each vertex is settled once per call
+    (in D, or in a pocket), so a call is linear at worst; when D is large and
+    near, it costs about the routes to Y.
     """
-    state = bytearray(len(toward_y))  # 1: in D; 2: in a pocket; 3: on the current search
+    state = bytearray(len(nbrs))  # 1: in D; 2: in a pocket; 3: on the current search
     for y in ys:
         state[y] = 1
     touching = set()
     for b in border:
-        for u in toward_y[b]:
+        for u in nbrs[b]:
             if side[u] or border_mark[u] or state[u] == 2:
                 continue
             if state[u] == 0:
@@ -189,9 +194,8 @@ def _touching_y_side(
                 visited, stack, found = [u], [u], False
                 while stack and not found:
                     v = stack.pop()
-                    row = toward_y[v]
-                    for i in range(len(row) - 1, -1, -1):  # nearest to Y popped first
-                        w = row[i]
+                    nearest, nearest_at = len(nbrs), -1
+                    for w in nbrs[v]:
                         if side[w] or border_mark[w]:
                             continue
                         if state[w] == 1:
@@ -201,6 +205,10 @@ def _touching_y_side(
                             state[w] = 3
                             visited.append(w)
                             stack.append(w)
+                            if dist[w] < nearest:
+                                nearest, nearest_at = dist[w], len(stack) - 1
+                    if nearest_at >= 0:  # the neighbour nearest to Y is searched next
+                        stack[nearest_at], stack[-1] = stack[-1], stack[nearest_at]
                 mark = 1 if found else 2
                 for v in visited:
                     state[v] = mark
@@ -226,7 +234,7 @@ def _separator_search(
     for y in ys:
         for u in nbrs[y]:
             near_y[u] = 1
-    toward_y = _toward(nbrs, ys)
+    dist = _distances(nbrs, ys)
     stack: list[tuple[list[int], tuple[int, ...]]] = [(list(xs), ())]
     while stack:
         seed, forced = stack.pop()
@@ -235,7 +243,7 @@ def _separator_search(
             if any(side[y] for y in ys):  # the x side touches the y side: nothing separates
                 ok = False
                 break
-            touching = _touching_y_side(toward_y, ys, side, border_mark, border)
+            touching = _touching_y_side(nbrs, dist, ys, side, border_mark, border)
             ok = all(f in touching for f in forced)
             if not ok or len(touching) == len(border):
                 break
