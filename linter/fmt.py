@@ -32,6 +32,8 @@ with generated diagrams.
 
 from __future__ import annotations
 
+import heapq
+from collections.abc import Iterator
 from dataclasses import dataclass
 
 from .model import (
@@ -93,31 +95,34 @@ def statement_text(statement: Statement | Entry) -> str:
     raise TypeError(f"not a statement: {statement!r}")
 
 
-def _layout(diagram: Diagram) -> list[_Line]:
-    lines: list[_Line] = []
-    blocks: list[tuple[int, int]] = []  # (header line, closing line) of each analysis
-    for s in diagram.statements:
-        if isinstance(s, Analysis):
-            lines.append(_Line(s.header.line, 0, statement_text(s), opens_block=True))
-            lines.extend(_Line(e.span.line, 1, statement_text(e)) for e in s.entries)
-            lines.append(_Line(s.closing_line, 0, "}", closes_block=True))
-            blocks.append((s.header.line, s.closing_line))
-        else:
-            lines.append(_Line(s.span.line, 0, statement_text(s)))
+def _layout(diagram: Diagram) -> Iterator[_Line]:
+    """The output lines in file order, one at a time (a large diagram's lines are
+    never all held as objects)."""
+    # (header line, closing line) of each analysis
+    blocks = [
+        (s.header.line, s.closing_line) for s in diagram.statements if isinstance(s, Analysis)
+    ]
+    trailing: dict[int, Comment] = {c.span.line: c for c in diagram.comments if c.trailing}
 
-    trailing: dict[int, Comment] = {}
-    for c in diagram.comments:
-        text = c.text.rstrip()
-        if c.trailing:
-            trailing[c.span.line] = c
-        else:
-            inside = any(start < c.span.line < end for start, end in blocks)
-            lines.append(_Line(c.span.line, 1 if inside else 0, text))
+    def statement_lines() -> Iterator[_Line]:
+        for s in diagram.statements:
+            if isinstance(s, Analysis):
+                yield _Line(s.header.line, 0, statement_text(s), opens_block=True)
+                yield from (_Line(e.span.line, 1, statement_text(e)) for e in s.entries)
+                yield _Line(s.closing_line, 0, "}", closes_block=True)
+            else:
+                yield _Line(s.span.line, 0, statement_text(s))
+
+    def comment_lines() -> Iterator[_Line]:
+        for c in diagram.comments:
+            if not c.trailing:
+                inside = any(start < c.span.line < end for start, end in blocks)
+                yield _Line(c.span.line, 1 if inside else 0, c.text.rstrip())
+
     # Each source line holds at most one statement (statements end at the end of
-    # a line), so a stable sort by line restores file order.
-    lines.sort(key=lambda item: item.source_line)
-    out = []
-    for item in lines:
+    # a line), and both runs are in line order, so merging them by line (the
+    # statement first on a tie) restores file order.
+    for item in heapq.merge(statement_lines(), comment_lines(), key=_source_line):
         comment = trailing.get(item.source_line)
         if comment is not None and not item.text.startswith("#"):
             item = _Line(
@@ -128,8 +133,11 @@ def _layout(diagram: Diagram) -> list[_Line]:
                 item.closes_block,
                 comment.text.rstrip(),
             )
-        out.append(item)
-    return out
+        yield item
+
+
+def _source_line(item: _Line) -> int:
+    return item.source_line
 
 
 def format_diagram(diagram: Diagram) -> str:
@@ -146,7 +154,9 @@ def format_diagram(diagram: Diagram) -> str:
             rows.append(("", None))  # a run of blank lines in the source becomes one
         rows.append((INDENT * item.depth + item.text, item.comment))
         previous = item
-    return "".join(f"{line}\n" for line in _aligned(rows))
+    lines = _aligned(rows)
+    del rows
+    return "\n".join(lines) + "\n" if lines else ""
 
 
 def _aligned(rows: list[tuple[str, str | None]]) -> list[str]:
