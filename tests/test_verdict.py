@@ -295,8 +295,8 @@ def test_a_listing_continued_in_steps_on_many_minimal_sets():
 
 
 def test_every_command_reads_the_verdict_check_judged():
-    """One verdict per analysis: the rules of `check` share one (on the compact
-    graph), and `adjustment`'s report, the API and a second look-up share one (on
+    """One verdict per analysis: the rules of `check` and `adjustment`'s report
+    share one (on the compact graph), the API and a second look-up share one (on
     networkx's graph); both judge the same, and nothing is judged twice."""
     from dagward.api import CheckedDiagram
 
@@ -310,12 +310,12 @@ def test_every_command_reads_the_verdict_check_judged():
     judged = verdict_of(diagram, analysis, compact=True)
     assert judged is verdict_of(diagram, analysis, compact=True)
     assert judged.__dict__.get("problems") is not None  # the rules already asked it
-    shared = verdict_of(diagram, analysis)
     report = report_for(diagram, analysis, 20)
     assert report["minimal_sets"] == [["age"]] and report["declared_valid"] is True
-    assert shared.__dict__.get("problems") is not None  # the report asked this one
-    assert CheckedDiagram(diagram).verdict("main") is shared
-    assert report == judged.to_dict(20)
+    assert judged.__dict__.get("_listing") is not None  # the report listed from it
+    shared = verdict_of(diagram, analysis)
+    assert shared is not judged and CheckedDiagram(diagram).verdict("main") is shared
+    assert shared.to_dict(20) == report
     # a new parse of the same text is a new diagram with a verdict of its own
     again, _ = parse_source(text, "one.dag")
     assert verdict_of(again, again.analyses[0]) is not shared

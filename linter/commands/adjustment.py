@@ -29,7 +29,7 @@ def report_for(diagram, analysis, max_sets: int) -> dict:
     """The analysis's verdict as the documented JSON shape."""
     from ..verdict import verdict_of
 
-    return verdict_of(diagram, analysis).to_dict(max_sets)
+    return verdict_of(diagram, analysis, compact=True).to_dict(max_sets)
 
 
 def render_text(file: str, diagram, reports: list[dict], max_sets: int) -> str:
@@ -38,7 +38,7 @@ def render_text(file: str, diagram, reports: list[dict], max_sets: int) -> str:
 
     lines = []
     for r in reports:
-        verdict = verdict_of(diagram, diagram.analysis(r["name"]))
+        verdict = verdict_of(diagram, diagram.analysis(r["name"]), compact=True)
         if verdict.question == "total" and not verdict.restricted_all:
             lines.append(f"{file}: analysis {r['name']}: effect of {', '.join(r['exposure'])} "
                          f"on {', '.join(r['outcome'])}")  # fmt: skip
