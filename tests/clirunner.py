@@ -46,3 +46,25 @@ def in_process(capsys, *args: str) -> Run:
         code = e.code
     captured = capsys.readouterr()
     return Run(code, captured.out, captured.err)
+
+
+def in_this_process(module, capsys, monkeypatch) -> None:
+    """Make ``module``'s ``dagward(...)`` run the command line in this process, in
+    the same working directory and environment the subprocess would have (for
+    test files whose every run would otherwise start an interpreter and import
+    the statistics stack; other files keep the real subprocess). Runs given
+    standard input or an interpreter setting still start a real interpreter."""
+
+    def run(*args: str, cwd=None, env=None, stdin=None) -> Run:
+        if stdin is not None or any(key.startswith("PYTHON") for key in env or {}):
+            # standard input, and settings read when an interpreter starts
+            # (PYTHONIOENCODING, ...), need the real subprocess
+            return dagward(*args, cwd=cwd, env=env, stdin=stdin)
+        monkeypatch.chdir(cwd or ROOT)
+        for key, value in (env or {}).items():
+            monkeypatch.setenv(key, value)
+        done = in_process(capsys, *args)
+        assert "Traceback" not in done.err, done.err
+        return done
+
+    monkeypatch.setattr(module, "dagward", run)

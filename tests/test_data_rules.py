@@ -10,7 +10,7 @@ import sys
 from pathlib import Path
 
 import pytest
-from clirunner import ROOT, dagward, in_process
+from clirunner import ROOT, dagward, in_process, in_this_process
 from dagward.config import Settings
 from dagward.data import table_from_csv_text
 from dagward.engine import lint_source
@@ -20,6 +20,12 @@ from helpers.docblocks import block, data_for
 
 CONSISTENT = "samples/data/wellness_consistent.csv"
 EXTRA_ARROW = "samples/data/wellness_extra_arrow.csv"
+
+
+@pytest.fixture(autouse=True)
+def _commands_in_this_process(capsys, monkeypatch):
+    """Every `dagward(...)` here runs in this process (see clirunner.in_this_process)."""
+    in_this_process(sys.modules[__name__], capsys, monkeypatch)
 
 
 @pytest.mark.parametrize("rule", DATA_RULES, ids=lambda r: r.name)

@@ -16,18 +16,25 @@ import itertools
 import json
 import math
 import re
+import sys
 import xml.etree.ElementTree as ET
 
 import networkx as nx
 import numpy as np
 import pytest
-from clirunner import ROOT, dagward, in_process
+from clirunner import ROOT, dagward, in_process, in_this_process
 from dagward.syntax import parse_source
 
 SAMPLES = ["wellness", "tree_canopy", "soil_amendment"]
 CONSISTENT = "samples/data/wellness_consistent.csv"
 EXTRA_ARROW = "samples/data/wellness_extra_arrow.csv"
 PAIR = re.compile(r"^(\S+) and (\S+)$")
+
+
+@pytest.fixture(autouse=True)
+def _commands_in_this_process(capsys, monkeypatch):
+    """Every `dagward(...)` here runs in this process (see clirunner.in_this_process)."""
+    in_this_process(sys.modules[__name__], capsys, monkeypatch)
 
 
 def load(name: str):
