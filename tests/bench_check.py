@@ -174,7 +174,7 @@ def scaling_table(commands=SCALING_COMMANDS, sizes=SIZES, timeout: float = 60.0)
                                                 tmpdir, timeout)  # fmt: skip
                 results[label, n] = (seconds, peak)
     print(
-        f"{'command':22}"
+        f"{'command':26}"
         + "".join(f"{f'{n:,} vars':>30}" for n in sizes)
         + "   growth exponent time/memory"
     )
@@ -196,7 +196,7 @@ def scaling_table(commands=SCALING_COMMANDS, sizes=SIZES, timeout: float = 60.0)
                 growth.append("-")
                 continue
             growth.append(f"{math.log(tb / ta) / k:.2f}/{math.log(mb / ma) / k:.2f}")
-        print(f"{label:22}" + "".join(cells) + "   " + ", ".join(growth))
+        print(f"{label:26}" + "".join(cells) + "   " + ", ".join(growth))
     if any(label == "check" for label, _ in commands):
         print("time as a multiple of `check` of the same file (target for adjustment: <= 2x):")
         for label, _ in commands:
@@ -206,7 +206,7 @@ def scaling_table(commands=SCALING_COMMANDS, sizes=SIZES, timeout: float = 60.0)
             for n in sizes:
                 t, t_check = results[label, n][0], results["check", n][0]
                 ratios.append("-" if t is None or t_check is None else f"{t / t_check:.2f}x")
-            print(f"  {label:22}" + "".join(f"{r:>12}" for r in ratios))
+            print(f"  {label:24}" + "".join(f"{r:>12}" for r in ratios))
     print(
         f"(MB: peak resident size of the process; KB/v: above the {base:.0f} MB of start-up, per variable;"
     )
