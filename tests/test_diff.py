@@ -659,19 +659,14 @@ def test_base_main_is_the_merge_base_on_a_branch_behind_main(history, capsys):
 
 # --- every command speaks the same verdict -----------------------------------------------
 
-_REPO: dict[str, Path] = {}
-
-
-def _shared_repo() -> Path:
+@pytest.fixture(scope="module")
+def shared_repo(tmp_path_factory) -> Path:
     """One repository for all examples (git is the slow part); each example commits
-    a base and a head and compares the two commits."""
-    if "repo" not in _REPO:
-        import tempfile
-
-        repo = Path(tempfile.mkdtemp(prefix="dagward-diff-prop-"))
-        git(repo, "init", "-q", "-b", "main")
-        _REPO["repo"] = repo
-    return _REPO["repo"]
+    a base and a head and compares the two commits. Under pytest's temporary
+    folder, which pytest removes."""
+    repo = tmp_path_factory.mktemp("diff-prop")
+    git(repo, "init", "-q", "-b", "main")
+    return repo
 
 
 @st.composite
@@ -725,14 +720,14 @@ def _check_verdict(text: str):
 
 @settings(max_examples=examples(100), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(changed_case())
-def test_diff_speaks_the_verdict_of_check_and_the_oracle(example):
+def test_diff_speaks_the_verdict_of_check_and_the_oracle(shared_repo, example):
     from dagward.diff import diff_revisions
     from dagward.report.diff import to_json
 
     case, head = example
     base_text = to_dag_text(case.G, case.observed, case.measured, case.X, case.Y, case.Z)
     head_text = to_dag_text(*head)
-    repo = _shared_repo()
+    repo = shared_repo
     shas = []
     for text in (base_text, head_text):
         write(repo, "q.dag", text)
