@@ -659,6 +659,7 @@ def test_base_main_is_the_merge_base_on_a_branch_behind_main(history, capsys):
 
 # --- every command speaks the same verdict -----------------------------------------------
 
+
 @pytest.fixture(scope="module")
 def shared_repo(tmp_path_factory) -> Path:
     """One repository for all examples (git is the slow part); each example commits

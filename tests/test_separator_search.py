@@ -13,7 +13,8 @@ import random
 
 import networkx as nx
 import pytest
-from dagward.causal.separators import _closure, _distances, _touching_y_side
+from dagward.causal.indexed import distances
+from dagward.causal.separators import _closure, _touching_y_side
 
 
 def _by_definition(nbrs, ys, side, border_mark, border) -> set[int]:
@@ -49,5 +50,7 @@ def test_touching_border_vertices_are_those_of_the_definition(seed):
     side, _members, border_mark, border = _closure(nbrs, seed_side, removable)
     if side[ys[0]]:
         return  # the x side reached Y: the search stops before asking
-    got = _touching_y_side(nbrs, _distances(nbrs, ys), ys, side, border_mark, border)
+    got = _touching_y_side(
+        nbrs, distances(len(nbrs), nbrs.__getitem__, ys), ys, side, border_mark, border
+    )
     assert got == _by_definition(nbrs, ys, side, border_mark, border)

@@ -183,6 +183,28 @@ def closure(
     return visited
 
 
+def distances(n: int, row: Callable[[int], Iterable[int]], seeds: Iterable[int]) -> array:
+    """Breadth-first number of steps along ``row`` from the nearest of ``seeds``
+    for each of the ``n`` variables (``n`` where none leads). One pass."""
+    dist = array("i", [n]) * n
+    frontier = []
+    for s in seeds:
+        if dist[s]:
+            dist[s] = 0
+            frontier.append(s)
+    d = 0
+    while frontier:
+        d += 1
+        nxt = []
+        for v in frontier:
+            for w in row(v):
+                if dist[w] > d:
+                    dist[w] = d
+                    nxt.append(w)
+        frontier = nxt
+    return dist
+
+
 def closure_rows(
     row: Callable[[int], Sequence[int]], seeds: Iterable[int], mark: bytearray
 ) -> bytearray:

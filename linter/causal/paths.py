@@ -15,7 +15,7 @@ import networkx as nx
 
 from .dsep import ancestor_mask, b_in, is_collider_on, path_is_causal
 from .graph import _as_set
-from .indexed import indexed
+from .indexed import distances, indexed
 
 REASON_NONCOLLIDER = "non-collider in the adjustment set"
 REASON_COLLIDER = "collider not adjusted and no adjusted descendant"
@@ -108,22 +108,8 @@ class _Walker:
 
 def _distances(ix, seeds: list[int]) -> array:
     """Number of arrows (either way) from the nearest seed; n where none leads."""
-    dist = array("i", [ix.n]) * ix.n
-    frontier = []
-    for s in seeds:
-        dist[s] = 0
-        frontier.append(s)
-    d = 0
-    while frontier:
-        d += 1
-        nxt = []
-        for v in frontier:
-            for u in chain(ix.succ[v], ix.pred[v]):
-                if dist[u] > d:
-                    dist[u] = d
-                    nxt.append(u)
-        frontier = nxt
-    return dist
+    succ, pred = ix.succ, ix.pred
+    return distances(ix.n, lambda v: chain(succ[v], pred[v]), seeds)
 
 
 def simple_paths(

@@ -33,7 +33,7 @@ from .adjustment import (
 )
 from .dsep import ArrowCut, SkipEdge, ancestor_mask, arrow_between, d_separated_cut, kept_rows
 from .graph import _as_set
-from .indexed import AS_WALLS, Indexed, closure, graph_cache, indexed
+from .indexed import AS_WALLS, Indexed, closure, distances, graph_cache, indexed
 
 Adjacency = Mapping[Hashable, Iterable[Hashable]]
 # Undirected adjacency over vertices 0..N-1 (the graph's index numbers).
@@ -139,29 +139,6 @@ def _close_to(
     return [b for b in border if any(reached[u] == 2 for u in nbrs[b])]
 
 
-def _distances(nbrs: Neighbours, targets: list[int]) -> array:
-    """Breadth-first distance of each vertex from ``targets`` in the whole graph
-    (``len(nbrs)`` where none leads): one pass per listing, 4 bytes a vertex."""
-    n = len(nbrs)
-    dist = array("i", [n]) * n
-    frontier = []
-    for t in targets:
-        if dist[t]:
-            dist[t] = 0
-            frontier.append(t)
-    d = 0
-    while frontier:
-        d += 1
-        nxt = []
-        for v in frontier:
-            for w in nbrs[v]:
-                if dist[w] > d:
-                    dist[w] = d
-                    nxt.append(w)
-        frontier = nxt
-    return dist
-
-
 def _touching_y_side(
     nbrs: Neighbours,
     dist: array,
@@ -175,7 +152,7 @@ def _touching_y_side(
 
     The same answer as a search of all of D from ``ys``, without walking D: from
     each border vertex's outside neighbours a depth-first search goes on from
-    the neighbour nearest to Y (``dist``, from :func:`_distances`) until it
+    the neighbour nearest to Y (``dist``: breadth-first distances from Y) until it
     meets Y or a vertex already known to be in D; a search that runs out has
     found a pocket enclosed by the border. Each vertex is settled once per call
     (in D, or in a pocket), so a call is linear at worst; when D is large and
@@ -234,7 +211,7 @@ def _separator_search(
     for y in ys:
         for u in nbrs[y]:
             near_y[u] = 1
-    dist = _distances(nbrs, ys)
+    dist = distances(len(nbrs), nbrs.__getitem__, ys)  # to lead the searches toward Y
     stack: list[tuple[list[int], tuple[int, ...]]] = [(list(xs), ())]
     while stack:
         seed, forced = stack.pop()
