@@ -37,7 +37,10 @@ from .indexed import AS_WALLS, Indexed, closure, distances, graph_cache, indexed
 
 Adjacency = Mapping[Hashable, Iterable[Hashable]]
 # Undirected adjacency over vertices 0..N-1 (the graph's index numbers).
-Neighbours = list[list[int]]
+Neighbours = (
+    list  # one row of neighbour numbers per vertex: an array('i'), a list, or NO_NEIGHBOURS
+)
+NO_NEIGHBOURS: tuple[int, ...] = ()
 
 
 def _moral_ids(
@@ -63,18 +66,22 @@ def _moral_ids(
     parents_of = kept_rows(ix, cut)[1]
     n = ix.n
     vertices = list(compress(range(n), anc))
-    nbrs: Neighbours = [[] for _ in range(2 * n)]
+    # Rows are arrays of 4-byte numbers (a list would hold a pointer and an int
+    # object for each), made when first written; rows never written share one
+    # empty tuple.
+    nbrs: Neighbours = [NO_NEIGHBOURS] * (2 * n)
     for v in vertices:
         parents = parents_of(v)
         if not parents:
             continue
         hub = n + v
-        family = nbrs[hub]
-        family.append(v)
-        nbrs[v].append(hub)
-        for p in parents:
-            family.append(p)
-            nbrs[p].append(hub)
+        family = nbrs[hub] = array("i", (v,))
+        family.extend(parents)
+        for u in chain((v,), parents):
+            row = nbrs[u]
+            if row is NO_NEIGHBOURS:
+                row = nbrs[u] = array("i")
+            row.append(hub)
     return nbrs, vertices
 
 
@@ -370,15 +377,25 @@ def _contracted(nbrs: Neighbours, vertices: list[int], removable, xs: list[int],
                 if comp[w] < 0 and not removable[w]:
                     comp[w] = group
                     stack.append(w)
-    out: list[set[int] | list[int]] = [set() for _ in original]
+    # Each row sorted and without repeats, as an array: a removable vertex is a
+    # group of its own, so its row is made at once; a merged group's row
+    # collects from all its members first.
+    new_nbrs: Neighbours = [NO_NEIGHBOURS] * len(original)
+    merged: dict[int, set[int]] = {}
     for v in active:
         a = comp[v]
-        row = out[a]
+        if a < n_removable:
+            new_nbrs[a] = array("i", sorted({b for w in nbrs[v] if (b := comp[w]) != a}))
+            continue
+        row = merged.get(a)
+        if row is None:
+            row = merged[a] = set()
         for w in nbrs[v]:
             b = comp[w]
             if b != a:
-                row.add(b)  # type: ignore[union-attr]
-    new_nbrs: Neighbours = [sorted(row) for row in out]
+                row.add(b)
+    for a, row in merged.items():
+        new_nbrs[a] = array("i", sorted(row))
     marks = bytearray(len(original))
     marks[:n_removable] = b"\x01" * n_removable
     return new_nbrs, original, sorted({comp[x] for x in xs}), sorted({comp[y] for y in ys}), marks
