@@ -18,19 +18,12 @@ import random
 import networkx as nx
 from dagward.causal import minimal_separator
 from dagward.causal.separators import PairSeparators
+from helpers.oracle import random_order_dag
 
 
 def _case(rng):
     """Invented: 6 to 14 variables in a random order, some of them unmeasured."""
-    n = rng.randrange(6, 15)
-    G = nx.DiGraph()
-    G.add_nodes_from(f"v{i}" for i in range(n))
-    order = list(G)
-    rng.shuffle(order)
-    p = rng.uniform(0.1, 0.45)
-    G.add_edges_from(
-        (a, b) for i, a in enumerate(order) for b in order[i + 1 :] if rng.random() < p
-    )
+    G = random_order_dag(rng, (6, 15), (0.1, 0.45))
     measured = {v for v in G if rng.random() < 0.75}
     return nx.freeze(G), measured
 

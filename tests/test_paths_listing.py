@@ -16,6 +16,7 @@ import networkx as nx
 import pytest
 from clirunner import dagward
 from dagward.causal.paths import FORWARD_TRIES, enumerate_paths, open_paths, simple_paths
+from helpers.oracle import random_order_dag
 from test_causal_oracle import blocked
 
 
@@ -43,15 +44,7 @@ def all_paths_oracle(G, X, Y):
 
 
 def random_case(rng):
-    n = rng.randrange(3, 10)
-    G = nx.DiGraph()
-    G.add_nodes_from(f"v{i}" for i in range(n))
-    order = list(G)
-    rng.shuffle(order)
-    p = rng.uniform(0.2, 0.6)
-    G.add_edges_from(
-        (a, b) for i, a in enumerate(order) for b in order[i + 1 :] if rng.random() < p
-    )
+    G = random_order_dag(rng, (3, 10), (0.2, 0.6))
     nodes = list(G)
     rng.shuffle(nodes)
     kx, ky = rng.choice([1, 1, 2]), rng.choice([1, 2])
@@ -185,15 +178,7 @@ def test_paths_given_with_a_misspelt_name_suggests_the_close_one():
 def _larger_case(rng):
     """Invented: 8 to 12 variables, up to three exposures and outcomes, a random
     adjustment set; sparse enough that networkx can list every path."""
-    n = rng.randrange(8, 13)
-    G = nx.DiGraph()
-    G.add_nodes_from(f"v{i}" for i in range(n))
-    order = list(G)
-    rng.shuffle(order)
-    p = rng.uniform(0.15, 0.35)
-    G.add_edges_from(
-        (a, b) for i, a in enumerate(order) for b in order[i + 1 :] if rng.random() < p
-    )
+    G = random_order_dag(rng, (8, 13), (0.15, 0.35))
     nodes = list(G)
     rng.shuffle(nodes)
     kx, ky = rng.choice([1, 1, 2, 3]), rng.choice([1, 1, 2, 3])

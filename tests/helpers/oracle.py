@@ -216,3 +216,19 @@ def analysis_case(draw, max_nodes: int = 8, max_roles: int = 2, **kw) -> Case:
     rest = sorted(measured - X - Y)
     Z = frozenset(draw(st.sets(st.sampled_from(rest), max_size=len(rest))) if rest else set())
     return Case(G, names, measured, X, Y, Z)
+
+
+def random_order_dag(rng, sizes: tuple[int, int], densities: tuple[float, float]) -> nx.DiGraph:
+    """A DAG over v0..v{n-1}, n drawn from ``range(*sizes)``, with arrows along a
+    random order of the variables, each present with a probability drawn from
+    ``densities`` (for plain-``random`` tests; the hypothesis strategies are above)."""
+    n = rng.randrange(*sizes)
+    G = nx.DiGraph()
+    G.add_nodes_from(f"v{i}" for i in range(n))
+    order = list(G)
+    rng.shuffle(order)
+    p = rng.uniform(*densities)
+    G.add_edges_from(
+        (a, b) for i, a in enumerate(order) for b in order[i + 1 :] if rng.random() < p
+    )
+    return G
