@@ -50,46 +50,48 @@ class _Row(Sequence):
         return j is not None and j in self.ids
 
 
-class _Rows(Mapping):
+class _ByVariable(Mapping):
+    """A mapping from each variable's name, in the index's order."""
+
+    __slots__ = ("names", "index")
+
+    def __init__(self, ix: Indexed):
+        self.names, self.index = ix.names, ix.index
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self.names)
+
+    def __len__(self) -> int:
+        return len(self.names)
+
+    def __contains__(self, name: object) -> bool:
+        return name in self.index
+
+
+class _Rows(_ByVariable):
     """Variable -> its `_Row` (children or parents)."""
 
-    __slots__ = ("names", "index", "rows")
+    __slots__ = ("rows",)
 
     def __init__(self, ix: Indexed, rows: list):
-        self.names, self.index, self.rows = ix.names, ix.index, rows
+        super().__init__(ix)
+        self.rows = rows
 
     def __getitem__(self, name: str) -> _Row:
         return _Row(self.names, self.index, self.rows[self.index[name]])
 
-    def __iter__(self) -> Iterator[str]:
-        return iter(self.names)
 
-    def __len__(self) -> int:
-        return len(self.names)
-
-    def __contains__(self, name: object) -> bool:
-        return name in self.index
-
-
-class _Nodes(Mapping):
+class _Nodes(_ByVariable):
     """Variable -> its attributes (only `hidden`)."""
 
-    __slots__ = ("index", "hidden_from", "names")
+    __slots__ = ("hidden_from",)
 
     def __init__(self, ix: Indexed, hidden_from: int):
-        self.index, self.hidden_from, self.names = ix.index, hidden_from, ix.names
+        super().__init__(ix)
+        self.hidden_from = hidden_from
 
     def __getitem__(self, name: str) -> dict:
         return _HIDDEN if self.index[name] >= self.hidden_from else _PLAIN
-
-    def __iter__(self) -> Iterator[str]:
-        return iter(self.names)
-
-    def __len__(self) -> int:
-        return len(self.names)
-
-    def __contains__(self, name: object) -> bool:
-        return name in self.index
 
 
 class CompactGraph:
