@@ -71,7 +71,35 @@ class Comment(NamedTuple):
         return self.text[1:].strip()
 
 
-class Arrow:
+class _AsTuple:
+    """Compares, hashes, unpacks and prints as the tuple ``_fields()``, named by
+    ``_field_names`` (for the slotted classes that replaced named tuples)."""
+
+    __slots__ = ()
+    _field_names: tuple[str, ...] = ()
+
+    def _fields(self) -> tuple:
+        raise NotImplementedError
+
+    def __iter__(self) -> Iterator:
+        return iter(self._fields())
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, type(self)):
+            return NotImplemented
+        return self._fields() == other._fields()
+
+    def __hash__(self) -> int:
+        return hash(self._fields())
+
+    def __repr__(self) -> str:
+        pairs = ", ".join(
+            f"{k}={v!r}" for k, v in zip(self._field_names, self._fields(), strict=True)
+        )
+        return f"{type(self).__name__}({pairs})"
+
+
+class Arrow(_AsTuple):
     """One cause-effect pair. `bidirected` is `A <-> B` (a hidden common cause).
 
     A large diagram is mostly arrows, so an arrow keeps only what its positions
@@ -126,25 +154,13 @@ class Arrow:
         """What makes two statements the same arrow: `a <-> b` is `b <-> a`."""
         return arrow_key(self.source_text, self.target_text, self.bidirected)
 
+    _field_names = ("source", "target", "bidirected", "span")
+
     def _fields(self) -> tuple[Name, Name, bool, Span]:
         return (self.source, self.target, self.bidirected, self.span)
 
-    def __iter__(self) -> Iterator:
-        return iter(self._fields())
-
-    def __eq__(self, other: object) -> bool:
-        if not isinstance(other, Arrow):
-            return NotImplemented
-        return self._fields() == other._fields()
-
     def __lt__(self, other: Arrow) -> bool:
         return self._fields() < other._fields()
-
-    def __hash__(self) -> int:
-        return hash(self._fields())
-
-    def __repr__(self) -> str:
-        return "Arrow(source={!r}, target={!r}, bidirected={!r}, span={!r})".format(*self._fields())
 
 
 def arrow_key(source: str, target: str, bidirected: bool) -> tuple[str, str, str]:
@@ -193,7 +209,7 @@ OPERATORS = {"->": "->", "<->": "<->"}
 _OPERATOR = {False: OPERATORS["->"], True: OPERATORS["<->"]}
 
 
-class ArrowStatement:
+class ArrowStatement(_AsTuple):
     """`a, b -> c <-> d`: groups of names joined by arrow operators.
 
     A line with a single arrow (nearly every line of a large diagram) keeps only
@@ -240,24 +256,10 @@ class ArrowStatement:
         kept = self._kept
         return kept.span if type(kept) is Arrow else kept[3]
 
+    _field_names = ("groups", "operators", "arrows", "span")
+
     def _fields(self) -> tuple:
         return (self.groups, self.operators, self.arrows, self.span)
-
-    def __iter__(self) -> Iterator:
-        return iter(self._fields())
-
-    def __eq__(self, other: object) -> bool:
-        if not isinstance(other, ArrowStatement):
-            return NotImplemented
-        return self._fields() == other._fields()
-
-    def __hash__(self) -> int:
-        return hash(self._fields())
-
-    def __repr__(self) -> str:
-        return "ArrowStatement(groups={!r}, operators={!r}, arrows={!r}, span={!r})".format(
-            *self._fields()
-        )
 
 
 RoleKey = Literal["exposure", "outcome", "adjust", "effect", "mediator", "restricted"]
