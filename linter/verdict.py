@@ -56,7 +56,6 @@ from .causal import (
     canonical_adjustment,
     collider_bias_paths,
     fixable_confounding_path,
-    forbidden,
     front_door_set,
     instrument_conditions,
     instrument_like,
@@ -65,9 +64,10 @@ from .causal import (
     minimal_adjustment_sets,
     open_noncausal_path,
     open_path_witnesses,
-    proper_causal_nodes,
     smallest_adjustment_set,
 )
+from .causal.adjustment import _cn_cached, _forbidden_cached, _roles
+from .causal.indexed import NodeSet, indexed
 from .causal.questions import (
     EXPOSURE_MEDIATOR,
     EXPOSURE_OUTCOME,
@@ -135,6 +135,21 @@ class Problem:
         return out
 
 
+def _measured(diagram: Diagram, graph) -> frozenset[str]:
+    """The measured variables: on the compact graph `check` reads, as marks over
+    its index (a frozenset of 100,000 names costs 4 MB); else the diagram's set."""
+    from .causal.compact import CompactGraph
+
+    if type(graph) is not CompactGraph:
+        return diagram.measured
+    ix = indexed(graph)
+    marks = bytearray(b"\x01") * graph.hidden_from + bytes(ix.n - graph.hidden_from)
+    index = ix.index
+    for v in diagram.unmeasured:
+        marks[index[v]] = 0
+    return NodeSet(ix, marks)  # type: ignore[return-value]
+
+
 def _sorted_sets(sets) -> tuple[tuple[str, ...], ...]:
     return tuple(sorted((tuple(sorted(s)) for s in sets), key=lambda s: (len(s), s)))
 
@@ -156,7 +171,7 @@ class Verdict:
         self.name = analysis.name
         # `check` passes `diagram.compact_graph` (same answers, no networkx graph)
         self.graph = diagram.graph if graph is None else graph
-        self.measured = diagram.measured
+        self.measured = _measured(diagram, self.graph)
         self.part = _part
         question = analysis.effect
         self.question: str = question
@@ -192,7 +207,8 @@ class Verdict:
     # -- the structure of the question ------------------------------------------
     @cached_property
     def causal_nodes(self) -> frozenset[str]:
-        return frozenset(proper_causal_nodes(self.graph, self.exposure, self.outcome))
+        # the set kept for the graph (on a large diagram, marks rather than names)
+        return _cn_cached(self.graph, *_roles(self.graph, self.exposure, self.outcome))
 
     @cached_property
     def mediators(self) -> frozenset[str]:
@@ -200,7 +216,7 @@ class Verdict:
 
     @cached_property
     def forbidden(self) -> frozenset[str]:
-        return frozenset(forbidden(self.graph, self.exposure, self.outcome))
+        return _forbidden_cached(self.graph, *_roles(self.graph, self.exposure, self.outcome))
 
     @cached_property
     def has_causal_path(self) -> bool:

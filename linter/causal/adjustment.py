@@ -26,8 +26,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from itertools import compress
-
-import networkx as nx
+from typing import TYPE_CHECKING
 
 from .dsep import (
     DOWN,
@@ -47,8 +46,22 @@ from .dsep import (
     tree_has,
     walk_to,
 )
-from .graph import _as_set, ancestors, descendants
-from .indexed import AS_WALLS, WALL_UNLESS_2, MaskView, both, closure, combine, graph_cache, indexed
+from .graph import _as_set, ancestors
+from .indexed import (
+    AS_WALLS,
+    WALL_UNLESS_2,
+    MaskView,
+    NodeSet,
+    both,
+    closure,
+    combine,
+    frozen,
+    graph_cache,
+    indexed,
+)
+
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
 
 
 def _roles(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> tuple[set[str], set[str]]:
@@ -70,14 +83,14 @@ def _per_graph(
     """Memoise ``compute()`` for this graph, question kind and node sets."""
     cache = graph_cache(G)
     if cache is None:
-        return frozenset(compute())
+        return frozen(compute())
     key = (kind, sets, len(G._succ))
     per_graph = cache.setdefault("sets", {})
     cached = per_graph.get(key)
     if cached is None:
         if len(per_graph) > 64:
             per_graph.clear()
-        cached = per_graph[key] = frozenset(compute())
+        cached = per_graph[key] = frozen(compute())
     return cached
 
 
@@ -95,21 +108,26 @@ def proper_causal_nodes(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> se
 
 def _cn_cached(G: nx.DiGraph, X: set[str], Y: set[str]) -> frozenset[str]:
     """cn(X, Y) as the cached frozenset (internal callers must not change it)."""
-    sets = (frozenset(X), frozenset(Y))
+    sets = (frozen(X), frozen(Y))
     return _per_graph(G, "cn", sets, lambda: _proper_causal_nodes(G, X, Y))
 
 
 def _descendants_cached(G: nx.DiGraph, nodes: set[str]) -> frozenset[str]:
     """De(nodes), inclusive, computed once per graph and node set."""
-    return _per_graph(G, "de", (frozenset(nodes),), lambda: descendants(G, nodes) if nodes else ())
+    return _per_graph(G, "de", (frozen(nodes),), lambda: _descendant_marks(G, nodes))
+
+
+def _descendant_marks(G: nx.DiGraph, nodes: Iterable[str]) -> NodeSet:
+    ix = indexed(G)
+    return NodeSet.of_ids(ix, closure(ix.succ, ix.ids(nodes), bytearray(ix.n)))
 
 
 def _forbidden_cached(G: nx.DiGraph, X: set[str], Y: set[str]) -> frozenset[str]:
-    sets = (frozenset(X), frozenset(Y))
+    sets = (frozen(X), frozen(Y))
     return _per_graph(G, "forb", sets, lambda: _descendants_cached(G, _cn_cached(G, X, Y)))
 
 
-def _proper_causal_nodes(G: nx.DiGraph, X: set[str], Y: set[str]) -> set[str]:
+def _proper_causal_nodes(G: nx.DiGraph, X: set[str], Y: set[str]) -> NodeSet:
     ix = indexed(G)
     xs = ix.ids(X)
     mark = ix.mask(X)
@@ -120,8 +138,7 @@ def _proper_causal_nodes(G: nx.DiGraph, X: set[str], Y: set[str]) -> set[str]:
     # inside An(Y); what this search newly marks is cn(X, Y).
     mark = mark.translate(WALL_UNLESS_2)
     found = closure(ix.succ, [c for x in xs for c in ix.succ[x]], mark, 1)
-    names = ix.names
-    return {names[i] for i in found}
+    return NodeSet.of_ids(ix, found)
 
 
 def mediators(G: nx.DiGraph, X: Iterable[str], Y: Iterable[str]) -> set[str]:
@@ -643,7 +660,9 @@ def adjustment_exists(
     ix = indexed(G)
     cn = _cn_cached(G, X, Y)
     index = ix.index
-    if not (isinstance(measured, frozenset) and index.keys() >= measured):
+    if type(measured) is NodeSet and measured.ix is ix:
+        pass  # marks over this index: every member is a variable
+    elif not (isinstance(measured, frozenset) and index.keys() >= measured):
         measured = frozenset(v for v in measured if v in index)
     measured_mask = ix.mask(measured)  # kept by the index for the diagram's own set
     # An(X ∪ Y) ∩ measured, minus X, Y and forb(X, Y): no forbidden variable,

@@ -27,8 +27,11 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import networkx as nx
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
+
 
 # Diagrams up to this many nodes (hidden `<->` parents included) are searched
 # exhaustively, within the step budget below.

@@ -105,6 +105,7 @@ class CompactGraph:
 
     def __init__(self, ix: Indexed, hidden_from: int, full: Callable[[], Any]):
         self._ix = ix
+        self.hidden_from = hidden_from
         self._full = full
         self._nx = None
         self.__networkx_cache__ = {"dagward": {"index": ix}}
@@ -134,6 +135,6 @@ class CompactGraph:
         return self._nx
 
     def __getattr__(self, name: str) -> Any:
-        if name.startswith("__") or name in ("_nx", "_full", "_ix"):
+        if name.startswith("__") or name in ("_nx", "_full", "_ix", "hidden_from"):
             raise AttributeError(name)
         return getattr(self.networkx(), name)

@@ -28,11 +28,13 @@ from __future__ import annotations
 from array import array
 from collections import deque
 from collections.abc import Callable, Iterable
-
-import networkx as nx
+from typing import TYPE_CHECKING
 
 from .graph import _as_set, ancestors
-from .indexed import Indexed, closure_rows, indexed
+from .indexed import Indexed, closure_rows, frozen, indexed
+
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
 
 UP = 0  # entered from a child, i.e. against the arrow
 DOWN = 1  # entered from a parent, i.e. along the arrow
@@ -312,8 +314,8 @@ class ArrowCut:
     __slots__ = ("tails", "heads")
 
     def __init__(self, tails: Iterable[str], heads: Iterable[str] | None = None):
-        self.tails = frozenset(tails)
-        self.heads = None if heads is None else frozenset(heads)
+        self.tails = frozen(tails)
+        self.heads = None if heads is None else frozen(heads)
 
     def __call__(self, u: str, v: str) -> bool:
         return u in self.tails and (self.heads is None or v in self.heads)

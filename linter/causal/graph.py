@@ -12,8 +12,11 @@ run over the integer index of dagward.causal.indexed.
 from __future__ import annotations
 
 from collections.abc import Iterable
+from typing import TYPE_CHECKING
 
-import networkx as nx
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
+
 
 HIDDEN_PREFIX = "<-> "
 

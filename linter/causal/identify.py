@@ -43,9 +43,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from dataclasses import dataclass, field
-from typing import Literal
-
-import networkx as nx
+from typing import TYPE_CHECKING, Literal
 
 from .estimand import (
     Expr,
@@ -60,6 +58,9 @@ from .estimand import (
     simplify,
 )
 from .graph import _as_set, is_hidden
+
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
 
 Route = Literal["adjustment", "front-door", "general", "not-identified"]
 
@@ -130,6 +131,8 @@ def latent_projection(G: nx.DiGraph, measured: Iterable[str]) -> Projection:
                 bidirected[a].add(b)
                 bidirected[b].add(a)
                 sources.setdefault(frozenset((a, b)), set()).update(named)
+    import networkx as nx
+
     D = nx.DiGraph()
     D.add_nodes_from(obs)
     D.add_edges_from((p, v) for v in obs for p in parents[v])

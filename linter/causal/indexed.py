@@ -21,10 +21,13 @@ The model freezes every diagram's graph (``networkx.freeze``).
 from __future__ import annotations
 
 from array import array
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence, Set
 from itertools import accumulate, chain, compress
+from typing import TYPE_CHECKING
 
-import networkx as nx
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
+
 
 # bytes.translate tables over marks holding bit flags
 WALL_UNLESS_2 = bytes(i if i & 2 else i | 1 for i in range(256))  # bit 1 set where bit 2 is not
@@ -89,11 +92,15 @@ class Indexed:
         return self._rows
 
     def ids(self, nodes: Iterable[str]) -> list[int]:
+        if type(nodes) is NodeSet and nodes.ix is self:
+            return list(compress(range(self.n), nodes.marks))
         index = self.index
         return [index[v] for v in nodes]
 
     def mask(self, nodes: Iterable[str]) -> bytearray:
         """A bytearray with 1 at each of ``nodes`` (names); a new one every call."""
+        if type(nodes) is NodeSet and nodes.ix is self:
+            return bytearray(nodes.marks)
         if type(nodes) is frozenset and len(nodes) > 64:
             kept = self._masks.get(id(nodes))
             if kept is None or kept[0] is not nodes:
@@ -234,3 +241,174 @@ class MaskView:
     def __contains__(self, name: object) -> bool:
         i = self.index.get(name)  # type: ignore[call-overload]
         return i is not None and bool(self.mask[i])
+
+
+class NodeSet(Set):
+    """A read-only set of variable names kept as marks over an `Indexed`.
+
+    On a large diagram the sets an analysis is judged by (the variables on
+    causal paths, the forbidden ones, the measured ones, the ones an
+    adjustment set may hold) hold most of its variables; as a frozenset of
+    names each costs 30-60 bytes a member, as marks one byte a variable of the
+    diagram, and the searches read the marks directly (``Indexed.mask``).
+    It answers as a frozenset does (``in``, iteration in the index's order,
+    ``len``, comparisons, hashing, ``-``, ``&``, ``|`` with any set); a result
+    is again marks when it can hold many members, a frozenset when it is
+    bounded by a set of names given with it.
+    """
+
+    __slots__ = ("ix", "marks", "_len", "_hash")
+
+    def __init__(self, ix: Indexed, marks: bytes | bytearray):
+        self.ix = ix
+        self.marks = bytes(marks)
+        self._len: int | None = None
+        self._hash: int | None = None
+
+    @classmethod
+    def of_ids(cls, ix: Indexed, ids: Iterable[int]) -> NodeSet:
+        m = bytearray(ix.n)
+        for i in ids:
+            m[i] = 1
+        return cls(ix, m)
+
+    def _same(self, other: object) -> bool:
+        return type(other) is NodeSet and other.ix is self.ix
+
+    def __contains__(self, name: object) -> bool:
+        i = self.ix.index.get(name)  # type: ignore[call-overload]
+        return i is not None and bool(self.marks[i])
+
+    def __iter__(self) -> Iterator[str]:
+        return compress(self.ix.names, self.marks)
+
+    def __len__(self) -> int:
+        if self._len is None:
+            self._len = self.ix.n - self.marks.count(0)
+        return self._len
+
+    def __bool__(self) -> bool:
+        return any(self.marks)
+
+    def __repr__(self) -> str:
+        return f"NodeSet({sorted(self)!r})"
+
+    def __hash__(self) -> int:
+        if self._hash is None:
+            self._hash = hash(frozenset(self))  # equal to an equal frozenset's
+        return self._hash
+
+    def __eq__(self, other: object) -> bool:
+        if self._same(other):
+            return self.marks == other.marks  # type: ignore[attr-defined]
+        if not isinstance(other, Set):
+            return NotImplemented
+        return len(self) == len(other) and all(v in self for v in other)
+
+    def __le__(self, other: object) -> bool:
+        if self._same(other):
+            return not any(combine(self.marks, other.marks))  # type: ignore[attr-defined]
+        if not isinstance(other, Set):
+            return NotImplemented
+        return len(self) <= len(other) and all(v in other for v in self)
+
+    def __ge__(self, other: object) -> bool:
+        if self._same(other):
+            return other <= self
+        if not isinstance(other, Set):
+            return NotImplemented
+        return all(v in self for v in other)
+
+    def __lt__(self, other: object) -> bool:
+        return self <= other and self != other
+
+    def __gt__(self, other: object) -> bool:
+        return self >= other and self != other
+
+    def isdisjoint(self, other: Iterable) -> bool:
+        if self._same(other):
+            return not any(both(self.marks, other.marks))  # type: ignore[attr-defined]
+        return not any(v in self for v in other)
+
+    def _marks_of(self, other: Iterable) -> bytearray:
+        if self._same(other):
+            return bytearray(other.marks)  # type: ignore[attr-defined]
+        m = bytearray(self.ix.n)
+        index = self.ix.index
+        for v in other:
+            i = index.get(v)
+            if i is not None:
+                m[i] = 1
+        return m
+
+    def __sub__(self, other: Iterable) -> NodeSet:
+        if not isinstance(other, Iterable):
+            return NotImplemented
+        return NodeSet(self.ix, combine(self.marks, self._marks_of(other)))
+
+    def __rsub__(self, other: Iterable) -> frozenset:
+        if not isinstance(other, Iterable):
+            return NotImplemented
+        return frozenset(v for v in other if v not in self)
+
+    def __and__(self, other: Iterable) -> NodeSet | frozenset:
+        if self._same(other):
+            return NodeSet(self.ix, both(self.marks, other.marks))  # type: ignore[attr-defined]
+        if not isinstance(other, Iterable):
+            return NotImplemented
+        return frozenset(v for v in other if v in self)
+
+    __rand__ = __and__
+
+    def __or__(self, other: Iterable) -> NodeSet | frozenset:
+        if not isinstance(other, Iterable):
+            return NotImplemented
+        index = self.ix.index
+        if self._same(other) or all(v in index for v in other):
+            m = self._marks_of(other)
+            return NodeSet(
+                self.ix,
+                (int.from_bytes(m, "little") | int.from_bytes(self.marks, "little")).to_bytes(
+                    self.ix.n, "little"
+                ),
+            )
+        return frozenset(self) | frozenset(other)
+
+    __ror__ = __or__
+
+    def __xor__(self, other: Iterable) -> frozenset:
+        return frozenset(self) ^ frozenset(other)
+
+    __rxor__ = __xor__
+
+    def union(self, *others: Iterable) -> NodeSet | frozenset:
+        out: NodeSet | frozenset = self
+        for o in others:
+            out = out | o
+        return out
+
+    def intersection(self, *others: Iterable) -> NodeSet | frozenset:
+        out: NodeSet | frozenset = self
+        for o in others:
+            out = out & o
+        return out
+
+    def difference(self, *others: Iterable) -> NodeSet | frozenset:
+        out: NodeSet | frozenset = self
+        for o in others:
+            out = out - o
+        return out
+
+    def issubset(self, other: Iterable) -> bool:
+        return self <= (other if isinstance(other, Set) else frozenset(other))
+
+    def issuperset(self, other: Iterable) -> bool:
+        return all(v in self for v in other)
+
+    def copy(self) -> NodeSet:
+        return self
+
+
+def frozen(nodes: Iterable[str]) -> frozenset[str]:
+    """``nodes`` as a read-only set: a `NodeSet` stays one (marks, not names)."""
+    return nodes if type(nodes) is NodeSet else frozenset(nodes)  # type: ignore[return-value]

@@ -39,13 +39,15 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from dataclasses import dataclass
-
-import networkx as nx
+from typing import TYPE_CHECKING
 
 from .adjustment import _cn_cached, _descendants_cached, _roles, proper_backdoor_skip
 from .dsep import ancestor_mask, d_separated_cut
 from .indexed import indexed
 from .separators import _close_to, _moral_ids
+
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
 
 
 @dataclass(frozen=True, order=True)

@@ -10,12 +10,14 @@ from array import array
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from itertools import chain, compress
-
-import networkx as nx
+from typing import TYPE_CHECKING
 
 from .dsep import ancestor_mask, b_in, is_collider_on, path_is_causal
 from .graph import _as_set
 from .indexed import distances, indexed
+
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
 
 REASON_NONCOLLIDER = "non-collider in the adjustment set"
 REASON_COLLIDER = "collider not adjusted and no adjusted descendant"

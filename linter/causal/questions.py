@@ -20,8 +20,7 @@ from __future__ import annotations
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from itertools import compress
-
-import networkx as nx
+from typing import TYPE_CHECKING
 
 from .adjustment import (
     _cn_cached,
@@ -38,6 +37,9 @@ from .dsep import kept_rows, two_stack_reach
 from .graph import HIDDEN_PREFIX, _as_set, descendants, is_hidden
 from .indexed import Indexed, closure_rows, combine, graph_cache, indexed
 from .separators import _close_to, _separator_search, minimal_adjustment_sets
+
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
 
 Rows = Callable[[int], Sequence[int]]
 

@@ -21,8 +21,7 @@ from __future__ import annotations
 from array import array
 from collections.abc import Hashable, Iterable, Iterator, Mapping
 from itertools import chain, compress
-
-import networkx as nx
+from typing import TYPE_CHECKING
 
 from .adjustment import (
     _cn_cached,
@@ -34,6 +33,9 @@ from .adjustment import (
 from .dsep import ArrowCut, SkipEdge, ancestor_mask, arrow_between, d_separated_cut, kept_rows
 from .graph import _as_set
 from .indexed import AS_WALLS, Indexed, closure, distances, graph_cache, indexed
+
+if TYPE_CHECKING:  # networkx is imported only where it is used
+    import networkx as nx
 
 Adjacency = Mapping[Hashable, Iterable[Hashable]]
 # Undirected adjacency over vertices 0..N-1 (the graph's index numbers).

@@ -30,14 +30,14 @@ def _position(arrow: Arrow) -> tuple[int, int]:
 
 
 def check(ctx: Context) -> Iterator[Finding]:
-    import networkx as nx
-
     diagram = ctx.diagram
     # hidden `<->` parents have no incoming arrows, so they are never on a cycle
     graph = diagram.compact_graph  # networkx's graph is built only for a cycle
     suspects = _not_topologically_sortable(graph)
     if not suspects:
         return
+    import networkx as nx  # only for a diagram with a cycle (the import costs 15 MB)
+
     first_statement: dict[tuple[str, str], Arrow] = {}
     for arrow in diagram.arrows:
         if not arrow.bidirected and arrow.source_text != arrow.target_text:
