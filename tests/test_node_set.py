@@ -11,10 +11,9 @@ import sys
 import networkx as nx
 import pytest
 from dagward.causal.indexed import NodeSet, indexed
+from helpers.examples import examples
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-
-from helpers.examples import examples
 
 NAMES = [f"v{i}" for i in range(12)]
 IX = indexed(nx.freeze(nx.DiGraph([(NAMES[i], NAMES[i + 1]) for i in range(len(NAMES) - 1)])))
