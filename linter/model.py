@@ -7,7 +7,8 @@ rules, reporters, formatter and renderer only read it. Nothing here does I/O.
 from __future__ import annotations
 
 import weakref
-from collections.abc import Iterable, Iterator
+from array import array
+from collections.abc import Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cached_property
 from typing import TYPE_CHECKING, Literal, NamedTuple
@@ -69,6 +70,108 @@ class Comment(NamedTuple):
     @property
     def body(self) -> str:
         return self.text[1:].strip()
+
+
+class NameRow(Sequence):
+    """The names of one list (`period p: a, b, c`, `unmeasured u, v`, ...), read
+    as a tuple of `Name`s.
+
+    A period of a large diagram can list tens of thousands of names; as
+    `Name`s each would cost about 250 bytes (two tuples and their numbers),
+    kept here as its shared string and two 4-byte numbers. A `Name` is built
+    when read. A row equals, hashes and adds as the tuple of its names.
+    """
+
+    __slots__ = ("texts", "lines", "columns")
+
+    def __init__(self, texts: tuple[str, ...], lines: array, columns: array):
+        self.texts, self.lines, self.columns = texts, lines, columns
+
+    @classmethod
+    def of(cls, names: Iterable[Name]) -> NameRow:
+        names = list(names)
+        return cls(
+            tuple(n.text for n in names),
+            array("i", (n.span.line for n in names)),
+            array("i", (n.span.column for n in names)),
+        )
+
+    def __len__(self) -> int:
+        return len(self.texts)
+
+    def _name(self, i: int) -> Name:
+        text, line, column = self.texts[i], self.lines[i], self.columns[i]
+        return Name(text, Span(line, column, line, column + len(text)))
+
+    def __getitem__(self, i):
+        if isinstance(i, slice):
+            return NameRow(self.texts[i], self.lines[i], self.columns[i])
+        return self._name(i)
+
+    def __iter__(self) -> Iterator[Name]:
+        for i in range(len(self.texts)):
+            yield self._name(i)
+
+    def __contains__(self, item: object) -> bool:
+        return any(item == n for n in self)
+
+    def __eq__(self, other: object) -> bool:
+        if type(other) is NameRow:
+            return (self.texts, self.lines, self.columns) == (
+                other.texts, other.lines, other.columns
+            )  # fmt: skip
+        if isinstance(other, tuple):
+            return tuple(self) == other
+        return NotImplemented
+
+    def __hash__(self) -> int:
+        return hash(tuple(self))
+
+    def __add__(self, other: Iterable[Name]) -> NameRow:
+        other = other if type(other) is NameRow else NameRow.of(other)
+        return NameRow(
+            self.texts + other.texts, self.lines + other.lines, self.columns + other.columns
+        )
+
+    def __repr__(self) -> str:
+        return repr(tuple(self))
+
+
+NO_NAMES = NameRow((), array("i"), array("i"))
+
+
+class Variables(Mapping):
+    """Each variable's name -> its first occurrence (a `Name`), in order of first
+    appearance. Keeps a packed position per variable and builds the `Name` when
+    read (a `Name` per variable would cost about 200 bytes)."""
+
+    __slots__ = ("_at",)
+    _COLUMN_BITS = 24
+
+    def __init__(self) -> None:
+        self._at: dict[str, int] = {}
+
+    def add(self, text: str, line: int, column: int) -> None:
+        """Record ``text`` at (line, column) unless it was seen before."""
+        if text not in self._at:
+            self._at[text] = (line << self._COLUMN_BITS) | column
+
+    def __getitem__(self, text: str) -> Name:
+        at = self._at[text]
+        line, column = at >> self._COLUMN_BITS, at & ((1 << self._COLUMN_BITS) - 1)
+        return Name(text, Span(line, column, line, column + len(text)))
+
+    def __contains__(self, text: object) -> bool:
+        return text in self._at
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self._at)
+
+    def __len__(self) -> int:
+        return len(self._at)
+
+    def keys(self):  # a real dict view: set operations on it run in C
+        return self._at.keys()
 
 
 class _AsTuple:
@@ -182,7 +285,7 @@ class TitleStatement:
 
 @dataclass(frozen=True, slots=True)
 class UnmeasuredStatement:
-    names: tuple[Name, ...]
+    names: NameRow
     span: Span
 
 
@@ -200,7 +303,7 @@ class LabelStatement:
 @dataclass(frozen=True, slots=True)
 class PeriodStatement:
     period: Name
-    names: tuple[Name, ...]
+    names: NameRow
     span: Span
 
 
@@ -412,16 +515,16 @@ class Diagram:
         return found
 
     @cached_property
-    def periods(self) -> list[tuple[Name, tuple[Name, ...]]]:
+    def periods(self) -> list[tuple[Name, NameRow]]:
         """Periods in order of first appearance, each with all its members."""
-        order: dict[str, tuple[Name, list[Name]]] = {}
+        order: dict[str, tuple[Name, NameRow]] = {}
         for s in self._of_type(PeriodStatement):
-            entry = order.setdefault(s.period.text, (s.period, []))
-            entry[1].extend(s.names)
-        return [(head, tuple(members)) for head, members in order.values()]
+            head, members = order.get(s.period.text, (s.period, NO_NAMES))
+            order[s.period.text] = (head, members + s.names)
+        return list(order.values())
 
     @cached_property
-    def variables(self) -> dict[str, Name]:
+    def variables(self) -> Variables:
         """Every variable with its first occurrence, in order of first appearance.
 
         A variable exists once it appears in an arrow, `unmeasured` or `period`
@@ -429,22 +532,22 @@ class Diagram:
         `label`: a label must name an existing variable (rule `unknown-variable`),
         so a misspelt label is reported instead of silently adding a variable.
         """
-        found: dict[str, Name] = {}
+        found = Variables()
+        add = found.add
         for s in self.statements:
             if isinstance(s, ArrowStatement):
                 kept = s._kept
-                if type(kept) is Arrow:  # a one-arrow line: a Name only for a new variable
-                    if kept.source_text not in found:
-                        found[kept.source_text] = kept.source
-                    if kept.target_text not in found:
-                        found[kept.target_text] = kept.target
+                if type(kept) is Arrow:  # a one-arrow line
+                    add(kept.source_text, kept.line, kept.source_column)
+                    add(kept.target_text, kept.line, kept.target_column)
                     continue
                 for group in s.groups:
                     for n in group:
-                        found.setdefault(n.text, n)
+                        add(n.text, n.span.line, n.span.column)
             elif isinstance(s, (UnmeasuredStatement, PeriodStatement)):
-                for n in s.names:
-                    found.setdefault(n.text, n)
+                row = s.names
+                for text, line, column in zip(row.texts, row.lines, row.columns, strict=True):
+                    add(text, line, column)
         return found
 
     @cached_property

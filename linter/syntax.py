@@ -32,6 +32,7 @@ from .model import (
     Entry,
     LabelStatement,
     Name,
+    NameRow,
     PeriodStatement,
     Span,
     TitleStatement,
@@ -135,7 +136,7 @@ class _Builder(Transformer):
 
     def unmeasured(self, children):
         kw, names = children
-        return UnmeasuredStatement(names, _join(_span(kw), names[-1].span))
+        return UnmeasuredStatement(NameRow.of(names), _join(_span(kw), names[-1].span))
 
     def label(self, children):
         kw, target, string = children
@@ -143,7 +144,9 @@ class _Builder(Transformer):
 
     def period(self, children):
         kw, period, _colon, names = children
-        return PeriodStatement(self._name(period), names, _join(_span(kw), names[-1].span))
+        return PeriodStatement(
+            self._name(period), NameRow.of(names), _join(_span(kw), names[-1].span)
+        )
 
     def arrows(self, children):
         groups = children[0::2]

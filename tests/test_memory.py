@@ -12,7 +12,7 @@ from dagward import syntax
 from dagward.causal.indexed import indexed
 from dagward.config import Settings
 from dagward.engine import lint_source
-from dagward.model import Arrow, ArrowStatement, Name, Span
+from dagward.model import Arrow, ArrowStatement, Name, NameRow, Span
 from dagward.verdict import Verdict
 
 NAMES = ["age", "Age", "sleep.h", "x_1", "zeta", "ümit", "b", "a2", "mood", "q"]
@@ -133,3 +133,34 @@ def test_a_long_run_of_arrow_lines_is_read_in_bounded_tokens():
     assert problem is None
     assert [a.line for a in diagram.arrows] == list(range(1, 2501))
     assert diagram.arrows[1234].describe() == "v1234 -> v1235"
+
+
+def test_a_list_of_names_keeps_strings_and_numbers_and_reads_as_names():
+    text = "period early:  sleep,   mood\nunmeasured grit\nperiod early: diet\nsleep -> mood\n"
+    diagram, problem = syntax.parse_source(text, "t.dag")
+    assert problem is None
+    first = diagram.statements[0]
+    assert isinstance(first.names, NameRow) and first.names.texts == ("sleep", "mood")
+    # the Names read are where the names are in the text (line and column counted by hand)
+    expected = (Name("sleep", Span(1, 16, 1, 21)), Name("mood", Span(1, 25, 1, 29)))
+    assert first.names == expected and tuple(first.names) == expected
+    assert hash(first.names) == hash(expected) and first.names[1:] == expected[1:]
+    ((head, members),) = diagram.periods
+    assert head.text == "early" and [n.text for n in members] == ["sleep", "mood", "diet"]
+    assert members[2] == Name("diet", Span(3, 15, 3, 19))
+
+
+def test_the_variables_are_first_occurrences_built_when_read():
+    text = "b -> a\nperiod p: c, a\nunmeasured d\nb, c -> e <-> f\n"
+    diagram, _ = syntax.parse_source(text, "t.dag")
+    # oracle: the first Name of each text over the statements, written out directly
+    first: dict[str, Name] = {}
+    for s in diagram.statements:
+        groups = getattr(s, "groups", None) or (s.names,)
+        for group in groups:
+            for n in group:
+                first.setdefault(n.text, n)
+    assert dict(diagram.variables) == first
+    assert list(diagram.variables) == ["b", "a", "c", "d", "e", "f"]
+    assert diagram.variables["e"] == Name("e", Span(4, 9, 4, 10))
+    assert "z" not in diagram.variables and diagram.variables.get("z") is None
