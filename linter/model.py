@@ -11,6 +11,7 @@ from array import array
 from collections.abc import Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cached_property
+from itertools import accumulate
 from typing import TYPE_CHECKING, Literal, NamedTuple
 
 if TYPE_CHECKING:  # networkx is imported lazily: `fmt` never needs it
@@ -642,42 +643,61 @@ class Diagram:
         and parents listed in `graph`'s order, so every search answers exactly as on
         `graph`. Reading what the compact graph does not keep builds `graph` then.
         """
-        from array import array
-
         from .causal.compact import CompactGraph
         from .causal.graph import hidden_node_name
-        from .causal.indexed import Indexed
+        from .causal.indexed import Indexed, Rows
 
-        pairs = []
-        hidden = set()
-        for a in self.arrows:
-            if a.bidirected:
-                h = hidden_node_name(a.source_text, a.target_text)
-                hidden.add(h)
-                pairs.append((h, a.source_text))
-                pairs.append((h, a.target_text))
-            else:
-                pairs.append((a.source_text, a.target_text))
+        arrows = self.arrows
         variables = sorted(self.variables)
-        names = variables + sorted(hidden)
-        del hidden
+        hidden = sorted(
+            {hidden_node_name(a.source_text, a.target_text) for a in arrows if a.bidirected}
+        )
+        names = variables + hidden
         index = {v: i for i, v in enumerate(names)}
-        # arrows in the order of `graph` (sorted by names: a hidden parent's name
-        # sorts apart from its node number), as one integer each
-        by_name = sorted(range(len(names)), key=names.__getitem__)
-        rank = array("i", bytes(4 * len(names)))
-        for r, i in enumerate(by_name):
-            rank[i] = r
         size = len(names)
-        keys = sorted({rank[index[u]] * size + rank[index[v]] for u, v in pairs})
-        del pairs
-        succ = [array("i") for _ in names]
-        pred = [array("i") for _ in names]
-        for key in keys:
-            u, v = by_name[key // size], by_name[key % size]
-            succ[u].append(v)
-            pred[v].append(u)
-        del keys
+        # Each row in the order of `graph` (children and parents sorted by name: a
+        # hidden parent's name sorts apart from its node number), straight into
+        # compressed rows: two passes over the arrows (count, then place).
+        rank = array("i", bytes(4 * size))
+        for r, i in enumerate(sorted(range(size), key=names.__getitem__)):
+            rank[i] = r
+
+        def pairs() -> Iterator[tuple[int, int]]:
+            for a in arrows:
+                s, t = index[a.source_text], index[a.target_text]
+                if a.bidirected:
+                    h = index[hidden_node_name(a.source_text, a.target_text)]
+                    yield h, s
+                    yield h, t
+                else:
+                    yield s, t
+
+        count = array("i", bytes(4 * (size + 1)))
+        for u, _ in pairs():
+            count[u + 1] += 1
+        at = array("i", accumulate(count))
+        flat = array("i", bytes(4 * at[-1]))
+        fill = array("i", at)
+        for u, v in pairs():
+            flat[fill[u]] = v
+            fill[u] += 1
+        del fill, count
+        succ = _sorted_rows(flat, at, rank)
+        del flat, at
+        # parents: the children rows read in name order give each parent row in
+        # name order
+        count = array("i", bytes(4 * (size + 1)))
+        for v in succ.flat:
+            count[v + 1] += 1
+        at = array("i", accumulate(count))
+        flat = array("i", bytes(4 * at[-1]))
+        fill = array("i", at)
+        for u in sorted(range(size), key=rank.__getitem__):
+            for v in succ[u]:
+                flat[fill[v]] = u
+                fill[v] += 1
+        pred = Rows(flat, at)
+        del fill, count
         ix = Indexed.from_rows(names, succ, pred, index)
         diagram = weakref.ref(self)  # no reference cycle through the graph
 
@@ -714,3 +734,17 @@ def unquote(literal: str) -> str:
             out.append(ch)
             i += 1
     return "".join(out)
+
+
+def _sorted_rows(flat: array, at: array, rank: array):
+    """Compressed rows with each row sorted by ``rank`` and without repeats."""
+    from .causal.indexed import Rows
+
+    out, out_at = array("i"), array("i", [0])
+    for v in range(len(at) - 1):
+        row = flat[at[v] : at[v + 1]]
+        if len(row) > 1:
+            row = sorted(set(row), key=rank.__getitem__)
+        out.extend(row)
+        out_at.append(len(out))
+    return Rows(out, out_at)

@@ -511,7 +511,7 @@ class Verdict:
             X = self.exposure - self.listed_mediators
             return (tuple(sorted(X)), *implied_stages(G, self.listed_mediators))
         period_of = {
-            n.text: i for i, (_, members) in enumerate(self.diagram.periods) for n in members
+            text: i for i, (_, members) in enumerate(self.diagram.periods) for text in members.texts
         }
         return stages_from_periods(G, self.exposure, period_of)
 

@@ -164,3 +164,50 @@ def test_the_variables_are_first_occurrences_built_when_read():
     assert list(diagram.variables) == ["b", "a", "c", "d", "e", "f"]
     assert diagram.variables["e"] == Name("e", Span(4, 9, 4, 10))
     assert "z" not in diagram.variables and diagram.variables.get("z") is None
+
+
+@pytest.mark.parametrize("seed", range(60))
+def test_repeated_arrows_are_found_with_or_without_the_shortcut(seed):
+    # `duplicate-arrow` skips its key per arrow when the counts show no repeat;
+    # the oracle is the definition: an arrow whose key an earlier arrow had.
+    rng = random.Random(seed)
+    names = NAMES[: rng.randint(2, 6)]
+    lines = []
+    for _ in range(rng.randint(1, 12)):
+        a, b = rng.choice(names), rng.choice(names)
+        op = rng.choice(["->", "<->"]) if a != b or rng.random() < 0.2 else "->"
+        lines.append(f"{a} {op} {b}")
+    text = "\n".join(lines) + "\n"
+    diagram, problem = syntax.parse_source(text, "t.dag")
+    assert problem is None
+    seen, expected = set(), []
+    for arrow in diagram.arrows:
+        a, b = arrow.source_text, arrow.target_text
+        key = ("<->", *sorted((a, b))) if arrow.bidirected else ("->", a, b)
+        if key in seen:
+            expected.append(arrow.line)
+        seen.add(key)
+    result = lint_source(text, "t.dag", Settings())
+    found = [f.line for f in result.findings if f.rule == "duplicate-arrow"]
+    assert found == sorted(expected), text
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_the_moral_rows_worked_out_on_demand_are_the_kept_ones(seed):
+    # _moral_row (used for adjustment sets) against _moral_ids (the rows kept as
+    # arrays, used for instruments): the same neighbours for every vertex.
+    from dagward.causal.dsep import ancestor_mask
+    from dagward.causal.separators import _moral_ids, _moral_row
+
+    diagram, _ = syntax.parse_source(random_diagram(seed), "t.dag")
+    ix = indexed(diagram.graph)
+    seeds = {ix.names[0], ix.names[-1]}
+    kept, _ = _moral_ids(ix, seeds)
+    row, has_family = _moral_row(ix, ancestor_mask(ix, seeds, None), None)
+    anc = ancestor_mask(ix, seeds, None)
+    for v in range(ix.n):
+        if anc[v]:
+            assert sorted(row(v)) == sorted(kept[v])
+            assert has_family(v) == bool(kept[ix.n + v])
+            if has_family(v):
+                assert sorted(row(ix.n + v)) == sorted(kept[ix.n + v])

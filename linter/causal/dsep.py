@@ -101,7 +101,7 @@ def _state_search(
     end; pass ``tree`` (an array of ``8 * n`` entries -1) to keep its parent
     pointers.
     """
-    succ, pred = ix.succ, ix.pred
+    succ, pred = ix.rows()
     parent = tree if tree is not None else new_tree(ix)
     queue: deque[int] = deque()
 
@@ -133,13 +133,13 @@ def _state_search(
         if d == UP:
             if inz[v]:
                 continue
-            steps = ((pred[v], UP << 2 | up_flag, up_flag), (succ[v], DOWN << 2 | f, f))
+            steps = ((pred(v), UP << 2 | up_flag, up_flag), (succ(v), DOWN << 2 | f, f))
         elif inz[v]:
-            steps = ((pred[v], UP << 2 | up_flag, up_flag),) if anc[v] else ()
+            steps = ((pred(v), UP << 2 | up_flag, up_flag),) if anc[v] else ()
         elif anc[v]:
-            steps = ((succ[v], DOWN << 2 | f, f), (pred[v], UP << 2 | up_flag, up_flag))
+            steps = ((succ(v), DOWN << 2 | f, f), (pred(v), UP << 2 | up_flag, up_flag))
         else:
-            steps = ((succ[v], DOWN << 2 | f, f),)
+            steps = ((succ(v), DOWN << 2 | f, f),)
         for nodes, low_bits, f2 in steps:
             for w in nodes:
                 nxt = w << 3 | low_bits

@@ -34,6 +34,39 @@ WALL_UNLESS_2 = bytes(i if i & 2 else i | 1 for i in range(256))  # bit 1 set wh
 AS_WALLS = bytes(3 if i else 0 for i in range(256))  # any mark -> both bits (a wall for bit 2)
 
 
+class Rows(Sequence):
+    """The children (or parents) of every variable in two arrays: variable v's
+    are ``flat[at[v]:at[v + 1]]`` (compressed rows). Reads as a list of
+    ``array('i')`` rows, with a slice made per read; a row per variable would
+    cost an 80-byte array object each."""
+
+    __slots__ = ("flat", "at")
+
+    def __init__(self, flat: array, at: array):
+        self.flat, self.at = flat, at
+
+    def __len__(self) -> int:
+        return len(self.at) - 1
+
+    def __getitem__(self, v):
+        at = self.at
+        try:
+            return self.flat[at[v] : at[v + 1]]
+        except TypeError:  # a slice of rows
+            return [self[i] for i in range(*v.indices(len(self)))]
+
+    def __iter__(self) -> Iterator[array]:
+        flat, at = self.flat, self.at
+        return (flat[at[v] : at[v + 1]] for v in range(len(at) - 1))
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, Sequence):
+            return NotImplemented
+        return len(self) == len(other) and all(a == b for a, b in zip(self, other, strict=True))
+
+    __hash__ = None  # type: ignore[assignment]
+
+
 class Indexed:
     """Variables numbered 0..n-1 in the graph's node order, with parent/child arrays."""
 
@@ -53,7 +86,11 @@ class Indexed:
 
     @classmethod
     def from_rows(
-        cls, names: list[str], succ: list[array], pred: list[array], index: dict[str, int]
+        cls,
+        names: list[str],
+        succ: Sequence[Sequence[int]],
+        pred: Sequence[Sequence[int]],
+        index: dict[str, int],
     ) -> Indexed:
         """An index made directly from numbered variables (``index``: name ->
         number) and their children and parents (each row in the order the
@@ -82,6 +119,10 @@ class Indexed:
         graphs of one shape and different sizes use the same layout.
         """
         if self._rows is None:
+            if type(self.succ) is Rows and type(self.pred) is Rows:
+                sf, so, pf, po = self.succ.flat, self.succ.at, self.pred.flat, self.pred.at
+                self._rows = (lambda v: sf[so[v] : so[v + 1]], lambda v: pf[po[v] : po[v + 1]])
+                return self._rows
             arrows = sum(map(len, self.succ))
             if arrows >= 4 * self.n:
                 sf, so = _compressed(self.succ)
@@ -180,9 +221,11 @@ def closure(
             mark[s] |= bit
             stack.append(s)
     visited = list(stack)
+    # compressed rows are sliced here rather than through a call per row
+    flat, at = (adjacency.flat, adjacency.at) if type(adjacency) is Rows else (None, None)
     while stack:
         v = stack.pop()
-        for w in adjacency[v]:
+        for w in adjacency[v] if flat is None else flat[at[v] : at[v + 1]]:
             if not mark[w] & bit:
                 mark[w] |= bit
                 stack.append(w)

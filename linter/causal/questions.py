@@ -617,7 +617,7 @@ def _induced_masks(ix: Indexed, X, M, Y, G) -> tuple[bytearray, dict]:
     over the whole diagram.
     """
     n = ix.n
-    succ, pred = ix.succ.__getitem__, ix.pred.__getitem__
+    succ, pred = ix.rows()
     x_mask, m_mask, y_mask = ix.mask(X), ix.mask(M), ix.mask(Y)
     xm = _or(x_mask, m_mask)
     # A: reached from X along arrows without entering X or M (pre-marked walls)
@@ -757,7 +757,7 @@ def natural_effect_covariates(
     de_x = _descendants_cached(G, X)
     forb_my = _forbidden_cached(G, M, Y)
     measured = frozenset(measured)
-    anc = closure_rows(ix.pred.__getitem__, ix.ids(X | M | Y), bytearray(ix.n))
+    anc = closure_rows(ix.rows()[1], ix.ids(X | M | Y), bytearray(ix.n))
     excluded = X | M | Y
     C = frozenset(
         name
@@ -877,7 +877,7 @@ def implied_stages(G: nx.DiGraph, X: Iterable[str]) -> tuple[tuple[str, ...], ..
     x_mask = ix.mask(X)
     above: dict[str, list[str]] = {}
     for x in X:
-        anc = closure_rows(lambda v: ix.pred[v], [ix.index[x]], bytearray(ix.n))
+        anc = closure_rows(ix.rows()[1], [ix.index[x]], bytearray(ix.n))
         above[x] = [
             ix.names[i] for i in compress(range(ix.n), anc) if x_mask[i] and ix.names[i] != x
         ]
@@ -997,7 +997,7 @@ def sequential_verdict(
     for k, Xk in enumerate(stage_sets):
         later = set().union(*stage_sets[k + 1 :]) if k + 1 < len(stage_sets) else set()
         xk = ix.ids(Xk)
-        de_later = closure_rows(lambda v: ix.succ[v], ix.ids(Xk | later), bytearray(n))
+        de_later = closure_rows(ix.rows()[0], ix.ids(Xk | later), bytearray(n))
         kids, pars = _stage_rows(ix, ix.mask(Xk), ix.mask(later))
         anc = closure_rows(pars, [*ix.ids(X - later), *ix.ids(Y)], bytearray(n))
         # candidates: measured, outside X and Y, not descendants of stages k..n

@@ -19,7 +19,7 @@ the side they touch.
 from __future__ import annotations
 
 from array import array
-from collections.abc import Hashable, Iterable, Iterator, Mapping
+from collections.abc import Callable, Hashable, Iterable, Iterator, Mapping
 from itertools import chain, compress
 from typing import TYPE_CHECKING
 
@@ -32,7 +32,7 @@ from .adjustment import (
 )
 from .dsep import ArrowCut, SkipEdge, ancestor_mask, arrow_between, d_separated_cut, kept_rows
 from .graph import _as_set
-from .indexed import AS_WALLS, Indexed, closure, distances, graph_cache, indexed
+from .indexed import AS_WALLS, Indexed, both, closure, combine, distances, graph_cache, indexed
 
 if TYPE_CHECKING:  # networkx is imported only where it is used
     import networkx as nx
@@ -324,15 +324,13 @@ def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
             return kept[1]
     cn = _cn_cached(G, X, Y)
     forb = _forbidden_cached(G, X, Y)
-    nbrs, vertices = _moral_ids(ix, X | Y, proper_backdoor_skip(X, cn))
-    index = ix.index
-    measured_ids = ix.mask(v for v in measured if v in index)
-    excluded = ix.mask(X | Y | forb)
-    removable = bytearray(len(nbrs))  # measured, in the ancestral set, not X, Y or forbidden
-    for v in vertices:
-        if measured_ids[v] and not excluded[v]:
-            removable[v] = 1
-    problem = (ix, *_contracted(nbrs, vertices, removable, ix.ids(X), ix.ids(Y)))
+    cut = proper_backdoor_skip(X, cn)
+    anc = ancestor_mask(ix, X | Y, cut)
+    n = ix.n
+    # measured, in the ancestral set, not X, Y or forbidden (hubs, from n on, never)
+    removable = _padded(combine(both(anc, ix.mask(measured)), ix.mask(X | Y), ix.mask(forb)), 2 * n)
+    row, has_family = _moral_row(ix, anc, cut)
+    problem = (ix, *_contracted(row, has_family, 2 * n, anc, removable, ix.ids(X), ix.ids(Y)))
     if cache is not None:
         kept_problems = cache["adjustment_problem"]
         kept_problems.pop(key, None)
@@ -342,7 +340,39 @@ def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
     return problem
 
 
-def _contracted(nbrs: Neighbours, vertices: list[int], removable, xs: list[int], ys: list[int]):
+def _moral_row(ix: Indexed, anc: bytes | bytearray, cut: SkipEdge):
+    """The neighbours of a vertex in :func:`_moral_ids`'s graph, worked out when
+    asked rather than kept (a row each for 2n vertices would cost about 150
+    bytes a variable): variable u (in An) is joined to its own family's hub
+    n + u when it has parents and to the hub of each child's family in An;
+    hub n + v to v and v's parents."""
+    children, parents = kept_rows(ix, cut)
+    n = ix.n
+
+    def row(v: int) -> Iterable[int]:
+        if v >= n:
+            u = v - n
+            return chain((u,), parents(u))
+        out = [n + c for c in children(v) if anc[c]]
+        if parents(v):
+            out.append(n + v)
+        return out
+
+    def has_family(v: int) -> bool:
+        return bool(parents(v))
+
+    return row, has_family
+
+
+def _contracted(
+    row: Callable[[int], Iterable[int]],
+    has_family: Callable[[int], bool],
+    n2: int,
+    anc: bytes | bytearray,
+    removable,
+    xs: list[int],
+    ys: list[int],
+):
     """The graph with each connected group of non-removable vertices merged into one vertex.
 
     No separator contains a non-removable vertex, so merging a connected
@@ -355,49 +385,59 @@ def _contracted(nbrs: Neighbours, vertices: list[int], removable, xs: list[int],
     ancestral graph.  Removable vertices come first, in increasing original
     number, so the listing order is the same as on the full graph.
 
-    Returns (neighbours, original, xs, ys, removable) on the contracted
-    graph; ``original[i]`` is the index number of removable vertex i, -1 for
-    a merged group.
+    ``row(v)`` gives the neighbours of vertex v of the moral graph with hubs
+    (:func:`_moral_row`; ``n2`` vertices, the variables of An marked in
+    ``anc``, ``has_family(v)`` when v's hub has members besides v).  Returns (neighbours, original, xs, ys, removable) on the
+    contracted graph; ``original[i]`` is the index number of removable
+    vertex i, -1 for a merged group.
     """
-    n2 = len(nbrs)
+    n = n2 // 2
     comp = array("i", [-1]) * n2
-    original: list[int] = []
-    for v in vertices:
-        if removable[v]:
-            comp[v] = len(original)
-            original.append(v)
+    original = array("i")
+    for v in compress(range(n), removable):
+        comp[v] = len(original)
+        original.append(v)
     n_removable = len(original)
-    active = vertices + [u for u in range(n2 // 2, n2) if nbrs[u]]  # with the families' hubs
-    for s in chain(xs, ys, active):
+
+    def active() -> Iterator[int]:  # the variables of An, then their families' hubs
+        yield from compress(range(n), anc)
+        yield from (n + v for v in compress(range(n), anc) if has_family(v))
+
+    single = bytearray()  # per merged group: 1 when it has one member
+    for s in chain(xs, ys, active()):
         if comp[s] >= 0:
             continue
         group = comp[s] = len(original)
         original.append(-1)
-        stack = [s]
+        stack, members = [s], 1
         while stack:
-            for w in nbrs[stack.pop()]:
+            for w in row(stack.pop()):
                 if comp[w] < 0 and not removable[w]:
                     comp[w] = group
                     stack.append(w)
-    # Each row sorted and without repeats, as an array: a removable vertex is a
-    # group of its own, so its row is made at once; a merged group's row
+                    members += 1
+        single.append(members == 1)
+    # Each row sorted and without repeats, as an array: a removable vertex, or
+    # a group of one, has its row made at once; a larger merged group's row
     # collects from all its members first.
     new_nbrs: Neighbours = [NO_NEIGHBOURS] * len(original)
     merged: dict[int, set[int]] = {}
-    for v in active:
+    for v in active():
         a = comp[v]
-        if a < n_removable:
-            new_nbrs[a] = array("i", sorted({b for w in nbrs[v] if (b := comp[w]) != a}))
+        if a < 0:
             continue
-        row = merged.get(a)
-        if row is None:
-            row = merged[a] = set()
-        for w in nbrs[v]:
+        if a < n_removable or single[a - n_removable]:
+            new_nbrs[a] = array("i", sorted({b for w in row(v) if (b := comp[w]) != a}))
+            continue
+        found = merged.get(a)
+        if found is None:
+            found = merged[a] = set()
+        for w in row(v):
             b = comp[w]
             if b != a:
-                row.add(b)
-    for a, row in merged.items():
-        new_nbrs[a] = array("i", sorted(row))
+                found.add(b)
+    for a, found in merged.items():
+        new_nbrs[a] = array("i", sorted(found))
     marks = bytearray(len(original))
     marks[:n_removable] = b"\x01" * n_removable
     return new_nbrs, original, sorted({comp[x] for x in xs}), sorted({comp[y] for y in ys}), marks

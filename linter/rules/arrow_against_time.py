@@ -27,18 +27,27 @@ from ..model import Name, PeriodStatement
 from .base import Context, Rule
 
 
+def _first(statements: list[PeriodStatement], at: int) -> tuple[str, Name]:
+    """(period, Name) of the place packed in ``at``."""
+    s = statements[at >> 24]
+    return s.period.text, s.names[at & 0xFFFFFF]
+
+
 def check(ctx: Context) -> Iterator[Finding]:
     diagram = ctx.diagram
     order = {head.text: i for i, (head, _members) in enumerate(diagram.periods)}
-    period_of: dict[str, tuple[str, Name]] = {}
-    for s in diagram.statements:
-        if not isinstance(s, PeriodStatement):
-            continue
-        for n in s.names:
-            earlier = period_of.get(n.text)
-            if earlier is None:
-                period_of[n.text] = (s.period.text, n)
+    # Each variable's first period statement and place in it, packed in one
+    # number (a Name a variable would cost about 200 bytes): statement << 24 | place.
+    statements = [s for s in diagram.statements if isinstance(s, PeriodStatement)]
+    packed: dict[str, int] = {}
+    for k, s in enumerate(statements):
+        for i, text in enumerate(s.names.texts):
+            at = packed.get(text)
+            if at is None:
+                packed[text] = k << 24 | i
                 continue
+            n = s.names[i]
+            earlier = _first(statements, at)
             yield ctx.finding(
                 RULE,
                 n.span,
@@ -46,13 +55,17 @@ def check(ctx: Context) -> Iterator[Finding]:
                 "a variable belongs to one period",
                 related=(ctx.related(earlier[1].span, f"`{n.text}` in period `{earlier[0]}`"),),
             )
+    rank = [order[s.period.text] for s in statements]  # each statement's period's place
     for arrow in diagram.arrows:
         if arrow.bidirected:
             continue
-        src = period_of.get(arrow.source_text)
-        dst = period_of.get(arrow.target_text)
-        if src is None or dst is None or order[src[0]] <= order[dst[0]]:
+        at_src = packed.get(arrow.source_text)
+        at_dst = packed.get(arrow.target_text)
+        if at_src is None or at_dst is None:
             continue
+        if rank[at_src >> 24] <= rank[at_dst >> 24]:
+            continue
+        src, dst = _first(statements, at_src), _first(statements, at_dst)
         yield ctx.finding(
             RULE,
             arrow.span,

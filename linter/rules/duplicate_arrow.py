@@ -17,12 +17,28 @@ from __future__ import annotations
 
 from collections.abc import Iterator
 
+from ..causal.indexed import indexed
 from ..findings import Finding
 from ..model import Arrow
 from .base import Context, Rule
 
 
+def _all_distinct(diagram) -> bool:
+    """No arrow is stated twice: as many `->` statements as distinct arrows
+    between variables in the causal graph `check` builds anyway, and no two
+    `<->` statements of one pair (few, so counted by their pairs). A diagram
+    without repeats (nearly every one) then needs no key per arrow."""
+    graph = diagram.compact_graph
+    ix, hidden_from = indexed(graph), graph.hidden_from
+    pairs = [frozenset((a.source_text, a.target_text)) for a in diagram.arrows if a.bidirected]
+    directed = len(diagram.arrows) - len(pairs)
+    distinct = sum(len(ix.succ[v]) for v in range(hidden_from))
+    return directed == distinct and len(set(pairs)) == len(pairs)
+
+
 def check(ctx: Context) -> Iterator[Finding]:
+    if _all_distinct(ctx.diagram):
+        return
     seen: dict[tuple, Arrow] = {}
     for arrow in ctx.diagram.arrows:
         a, b = arrow.source_text, arrow.target_text

@@ -33,9 +33,8 @@ def check(ctx: Context) -> Iterator[Finding]:
         connected.add(arrow.source_text)
         connected.add(arrow.target_text)
     # a variable with arrows and a close spelling is what a misspelt name meant
-    isolated = [
-        (name, first) for name, first in ctx.diagram.variables.items() if name not in connected
-    ]
+    variables = ctx.diagram.variables  # a first occurrence is built only when asked for
+    isolated = [(name, variables[name]) for name in variables if name not in connected]
     if not isolated:
         return
     candidates = Speller(sorted(connected), queries=len(isolated))

@@ -37,7 +37,7 @@ def check(ctx: Context) -> Iterator[Finding]:
     diagram = ctx.diagram
     if not diagram.periods:
         return
-    in_period = {n.text for _head, members in diagram.periods for n in members}
+    in_period = {text for _head, members in diagram.periods for text in members.texts}
     with_arrows: set[str] = set()
     for arrow in diagram.arrows:
         with_arrows.add(arrow.source_text)
@@ -45,9 +45,10 @@ def check(ctx: Context) -> Iterator[Finding]:
     # a period name that no variable has is the likely misspelling
     strays = sorted(in_period - with_arrows)
     unmeasured = diagram.unmeasured
+    variables = diagram.variables  # a first occurrence is built only when asked for
     outside = [
-        (name, first)
-        for name, first in diagram.variables.items()
+        (name, variables[name])
+        for name in variables
         if name not in in_period and name in with_arrows and name not in unmeasured
     ]
     speller = Speller(strays, queries=len(outside))
