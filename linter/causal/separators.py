@@ -354,7 +354,7 @@ def _moral_row(ix: Indexed, anc: bytes | bytearray, cut: SkipEdge):
             u = v - n
             return chain((u,), parents(u))
         out = [n + c for c in children(v) if anc[c]]
-        if parents(v):
+        if has_family(v):
             out.append(n + v)
         return out
 
