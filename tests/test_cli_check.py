@@ -3,13 +3,20 @@
 from __future__ import annotations
 
 import json
+import sys
 
 import jsonschema
 import pytest
-from clirunner import ROOT, dagward
+from clirunner import ROOT, dagward, in_this_process
 
 SCHEMA = json.loads((ROOT / "tests" / "schemas" / "check-output.schema.json").read_text())
 BROKEN = ROOT / "samples" / "broken"
+
+
+@pytest.fixture(autouse=True)
+def _commands_in_this_process(capsys, monkeypatch):
+    """Every `dagward(...)` here runs in this process (see clirunner.in_this_process)."""
+    in_this_process(sys.modules[__name__], capsys, monkeypatch)
 
 
 QUESTION_SAMPLES = {"clinic_sample.dag", "walking_group.dag", "reading_support.dag"}
@@ -195,5 +202,7 @@ def test_config_option_points_at_a_toml_file(tmp_path):
 
 
 def test_python_dash_m_and_version():
-    run = dagward("--version")
+    import clirunner
+
+    run = clirunner.dagward("--version")  # the real `python -m dagward`, not in this process
     assert run.code == 0 and run.out.startswith("dagward 0.")

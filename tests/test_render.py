@@ -12,16 +12,23 @@ from __future__ import annotations
 import re
 import shlex
 import shutil
+import sys
 import xml.etree.ElementTree as ET
 from pathlib import Path
 
 import networkx as nx
 import pytest
-from clirunner import ROOT, dagward
+from clirunner import ROOT, dagward, in_this_process
 from dagward.causal.graph import is_hidden
 from dagward.syntax import parse_source
 
 SAMPLES = ["wellness", "tree_canopy", "soil_amendment"]
+
+
+@pytest.fixture(autouse=True)
+def _commands_in_this_process(capsys, monkeypatch):
+    """Every `dagward(...)` here runs in this process (see clirunner.in_this_process)."""
+    in_this_process(sys.modules[__name__], capsys, monkeypatch)
 
 
 def load_diagram(path: str):
