@@ -203,11 +203,11 @@ def test_the_moral_rows_worked_out_on_demand_are_the_kept_ones(seed):
     ix = indexed(diagram.graph)
     seeds = {ix.names[0], ix.names[-1]}
     kept, _ = _moral_ids(ix, seeds)
-    row, has_family = _moral_row(ix, ancestor_mask(ix, seeds, None), None)
+    row, family = _moral_row(ix, ancestor_mask(ix, seeds, None), None)
     anc = ancestor_mask(ix, seeds, None)
     for v in range(ix.n):
         if anc[v]:
             assert sorted(row(v)) == sorted(kept[v])
-            assert has_family(v) == bool(kept[ix.n + v])
-            if has_family(v):
+            assert family[v] == bool(kept[ix.n + v])
+            if family[v]:
                 assert sorted(row(ix.n + v)) == sorted(kept[ix.n + v])

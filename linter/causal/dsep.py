@@ -344,29 +344,20 @@ def kept_rows(ix: Indexed, cut: ArrowCut | None):
             if heads is None or heads[c]:
                 into[c] = 1
 
-    def cut_children(v: int):
-        return () if heads is None else [c for c in succ[v] if not heads[c]]
-
-    def cut_parents(v: int):
-        return [p for p in pred[v] if not tails[p]]
-
-    if type(succ) is Rows and type(pred) is Rows:
-        # compressed rows sliced here: one call per row instead of two
+    # Compressed rows are sliced here (one call a row instead of two).
+    compressed = type(succ) is Rows and type(pred) is Rows
+    if compressed:
         sf, so, pf, po = succ.flat, succ.at, pred.flat, pred.at
 
-        def kept_children(v: int):
-            return sf[so[v] : so[v + 1]] if not tails[v] else cut_children(v)
+    def kept_children(v: int):
+        if tails[v]:
+            return () if heads is None else [c for c in succ[v] if not heads[c]]
+        return sf[so[v] : so[v + 1]] if compressed else children(v)
 
-        def kept_parents(v: int):
-            return pf[po[v] : po[v + 1]] if not into[v] else cut_parents(v)
-
-        return kept_children, kept_parents
-
-    def kept_children(v: int):  # noqa: F811 (rows as arrays)
-        return children(v) if not tails[v] else cut_children(v)
-
-    def kept_parents(v: int):  # noqa: F811
-        return parents(v) if not into[v] else cut_parents(v)
+    def kept_parents(v: int):
+        if into[v]:
+            return [p for p in pred[v] if not tails[p]]
+        return pf[po[v] : po[v + 1]] if compressed else parents(v)
 
     return kept_children, kept_parents
 

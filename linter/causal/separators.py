@@ -329,8 +329,8 @@ def _adjustment_problem(G: nx.DiGraph, X, Y, measured):
     n = ix.n
     # measured, in the ancestral set, not X, Y or forbidden (hubs, from n on, never)
     removable = _padded(combine(both(anc, ix.mask(measured)), ix.mask(X | Y), ix.mask(forb)), 2 * n)
-    row, has_family = _moral_row(ix, anc, cut)
-    problem = (ix, *_contracted(row, has_family, 2 * n, anc, removable, ix.ids(X), ix.ids(Y)))
+    row, family = _moral_row(ix, anc, cut)
+    problem = (ix, *_contracted(row, family, 2 * n, anc, removable, ix.ids(X), ix.ids(Y)))
     if cache is not None:
         kept_problems = cache["adjustment_problem"]
         kept_problems.pop(key, None)
@@ -348,25 +348,26 @@ def _moral_row(ix: Indexed, anc: bytes | bytearray, cut: SkipEdge):
     hub n + v to v and v's parents."""
     children, parents = kept_rows(ix, cut)
     n = ix.n
+    family = bytearray(n)  # the variables of An with parents (their hub has members)
+    for v in compress(range(n), anc):
+        if parents(v):
+            family[v] = 1
 
     def row(v: int) -> Iterable[int]:
         if v >= n:
             u = v - n
             return chain((u,), parents(u))
         out = [n + c for c in children(v) if anc[c]]
-        if has_family(v):
+        if family[v]:
             out.append(n + v)
         return out
 
-    def has_family(v: int) -> bool:
-        return bool(parents(v))
-
-    return row, has_family
+    return row, family
 
 
 def _contracted(
     row: Callable[[int], Iterable[int]],
-    has_family: Callable[[int], bool],
+    family: bytes | bytearray,
     n2: int,
     anc: bytes | bytearray,
     removable,
@@ -386,10 +387,12 @@ def _contracted(
     number, so the listing order is the same as on the full graph.
 
     ``row(v)`` gives the neighbours of vertex v of the moral graph with hubs
-    (:func:`_moral_row`; ``n2`` vertices, the variables of An marked in
-    ``anc``, ``has_family(v)`` when v's hub has members besides v).  Returns (neighbours, original, xs, ys, removable) on the
-    contracted graph; ``original[i]`` is the index number of removable
-    vertex i, -1 for a merged group.
+    (:func:`_moral_row`): ``n2`` vertices, the variables of An marked in
+    ``anc``, those whose hub has members besides themselves in ``family``.
+
+    Returns (neighbours, original, xs, ys, removable) on the contracted
+    graph; ``original[i]`` is the index number of removable vertex i, -1 for
+    a merged group.
     """
     n = n2 // 2
     comp = array("i", [-1]) * n2
@@ -401,7 +404,7 @@ def _contracted(
 
     def active() -> Iterator[int]:  # the variables of An, then their families' hubs
         yield from compress(range(n), anc)
-        yield from (n + v for v in compress(range(n), anc) if has_family(v))
+        yield from (n + v for v in compress(range(n), family))
 
     single = bytearray()  # per merged group: 1 when it has one member
     for s in chain(xs, ys, active()):
